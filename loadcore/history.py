@@ -18,6 +18,7 @@ import os
 import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
@@ -591,19 +592,54 @@ def _raw_from_frame(
 # --------------------------------------------------------------------------------------------
 
 
+_PATTERN_PIECES = {
+    "%Y": r"\d{4}",
+    "%m": r"\d{1,2}",
+    "%d": r"\d{1,2}",
+    "%H": r"\d{1,2}",
+    "%M": r"\d{1,2}",
+    "%S": r"\d{1,2}",
+    "%f": r"\d{1,9}",
+}
+
+
+@lru_cache(maxsize=256)
+def _shape(pattern: str) -> re.Pattern[str]:
+    """A regular expression for the shape of a strftime pattern (digits only, no range checks)."""
+    pieces = re.split(r"(%[A-Za-z])", pattern)
+    return re.compile("".join(_PATTERN_PIECES.get(p, re.escape(p)) for p in pieces))
+
+
+def _probe(value: str, pattern: str) -> bool:
+    return _shape(pattern).fullmatch(value) is not None
+
+
 def _parse_family(values: pd.Series, date_part: str) -> pd.Series:
-    """Parse with one date layout, accepting any of the time layouts row by row."""
-    out = pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")
-    todo = values
-    for time_part in _TIME_PARTS:
-        if todo.empty:
+    """Parse with one date layout, accepting any of the time layouts row by row.
+
+    A time layout is tried on the whole remaining column only once a probe of one of the first
+    few remaining values says it fits, so wrong layouts cost next to nothing.
+    """
+    text = values.to_numpy(dtype=object)
+    out = np.full(len(text), np.datetime64("NaT"), dtype="datetime64[ns]")
+    todo = np.arange(len(text))
+    untried = list(_TIME_PARTS)
+    while len(todo) and untried:
+        chosen = None
+        for pos in todo[:20]:
+            chosen = next((t for t in untried if _probe(str(text[pos]), date_part + t)), None)
+            if chosen is not None:
+                break
+        if chosen is None:
             break
-        parsed = pd.to_datetime(todo, format=date_part + time_part, errors="coerce")
-        got = parsed.notna()
-        if got.any():
-            out.loc[got[got].index] = parsed[got].astype("datetime64[ns]")
-            todo = todo[~got]
-    return out
+        untried.remove(chosen)
+        parsed = pd.to_datetime(
+            pd.Series(text[todo]), format=date_part + chosen, errors="coerce"
+        ).to_numpy(dtype="datetime64[ns]")
+        got = ~np.isnat(parsed)
+        out[todo[got]] = parsed[got]
+        todo = todo[~got]
+    return pd.Series(out, index=values.index)
 
 
 def _parse_iso8601(values: pd.Series) -> pd.Series:
@@ -655,7 +691,7 @@ def _parse_dates(raw: _Raw, settings: HistorySettings, issues: _Collector) -> pd
         chosen = settings.date_format
         parsed_filled = stamps_f.astype("datetime64[ns]")
     else:
-        sample = pd.concat([filled.head(200), filled.tail(200)])
+        sample = pd.concat([filled.head(200), filled.tail(200)]).reset_index(drop=True)
         candidates: list[tuple[str, pd.Series]] = []
         best_partial: tuple[int, str, pd.Series] | None = None
         for part in (*_DATE_PARTS, "ISO8601"):
@@ -1073,7 +1109,13 @@ def _complete_daily(
     for a, b in _runs(demand_missing):
         n = b - a + 1
         span = f"{index[a]:%Y-%m-%d}" if n == 1 else f"{index[a]:%Y-%m-%d} to {index[b]:%Y-%m-%d}"
-        cause = "absent from the file" if absent[a : b + 1].all() else "blank or absent"
+        gap_absent = absent[a : b + 1]
+        if gap_absent.all():
+            cause = "absent from the file"
+        elif not gap_absent.any():
+            cause = "blank in the file"
+        else:
+            cause = "blank or absent"
         if n > settings.max_demand_gap_days:
             issues.add(
                 "error",
