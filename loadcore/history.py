@@ -456,7 +456,15 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: _Collector) -> 
         )
         return None
     delim = _detect_delimiter(lines, wanted)
-    records = list(csv.reader(io.StringIO(text), delimiter=delim))
+    try:
+        records = list(csv.reader(io.StringIO(text, newline=""), delimiter=delim))
+    except csv.Error as exc:
+        issues.add(
+            "error",
+            f"The file cannot be read as a table ({exc})",
+            fix="Save the history as a plain CSV file with one row per line",
+        )
+        return None
     wanted_n = [_norm(w) for w in wanted]
     header_at = None
     for i, rec in enumerate(records[:30]):
@@ -1171,6 +1179,23 @@ def _complete_daily(
     return frame[["demand", "temperature_c", "temperature_filled"]]
 
 
+def _analyse_safely(
+    source: Any, settings: HistorySettings
+) -> tuple[HistoryReport, pd.DataFrame | None]:
+    """:func:`_analyse`, with any unforeseen failure turned into an error in the report."""
+    try:
+        return _analyse(source, settings)
+    except Exception as exc:  # noqa: BLE001 - the user must get a report, never a traceback
+        logger.exception("unexpected failure while checking a history")
+        issue = Issue(
+            "error",
+            f"The history could not be checked because of an unexpected problem ({exc})",
+            fix="Check that the file is a plain CSV table; if it is, report this to the "
+            "loadcore maintainers with the file",
+        )
+        return HistoryReport((issue,)), None
+
+
 def _fingerprint(frame: pd.DataFrame) -> str:
     """sha256 over the day numbers and the float/bool values, independent of time resolution."""
     digest = hashlib.sha256()
@@ -1210,7 +1235,7 @@ def check_history(source: Any, settings: HistorySettings = HistorySettings()) ->
     HistoryReport
         Every error, warning and note found.
     """
-    report, _ = _analyse(source, settings)
+    report, _ = _analyse_safely(source, settings)
     return report
 
 
@@ -1235,7 +1260,7 @@ def read_history(source: Any, settings: HistorySettings = HistorySettings()) -> 
     HistoryError
         When the report has errors; ``err.report`` holds the full report.
     """
-    report, frame = _analyse(source, settings)
+    report, frame = _analyse_safely(source, settings)
     if frame is None or not report.ok:
         errors = report.errors
         first = errors[0] if errors else Issue("error", "The history could not be read")
@@ -1310,13 +1335,17 @@ def history_from_frame(
     data = data.reindex(full)
     demand = pd.to_numeric(data["demand"], errors="coerce").astype(float)
     temp = pd.to_numeric(data["temperature_c"], errors="coerce").astype(float)
-    if temp.isna().any():
-        bad = temp.index[temp.isna()][0]
-        raise HistoryError(
-            "Temperature is missing",
-            where=f"date {bad:%Y-%m-%d}",
-            fix="Give a temperature_c value on every day",
-        )
+    missing_temp = temp.isna().to_numpy()
+    for a, b in _runs(missing_temp):
+        if a == 0 or b == len(temp) - 1 or b - a + 1 > settings.max_temp_gap_days:
+            raise HistoryError(
+                f"Temperature is missing for {b - a + 1} day(s) and cannot be filled",
+                where=f"date {temp.index[a]:%Y-%m-%d}",
+                fix=f"Give a temperature_c value on every day (gaps of up to "
+                f"{settings.max_temp_gap_days} days inside the history are interpolated)",
+            )
+    if missing_temp.any():
+        temp = temp.interpolate(method="linear")
     if (demand <= 0).any():
         bad = demand.index[(demand <= 0).to_numpy()][0]
         raise HistoryError(
@@ -1328,7 +1357,7 @@ def history_from_frame(
         data["temperature_filled"].fillna(False).astype(bool)
         if "temperature_filled" in data.columns
         else pd.Series(False, index=full)
-    )
+    ) | missing_temp
     out = pd.DataFrame(
         {
             "demand": demand.to_numpy(),
