@@ -48,6 +48,9 @@ MIN_DAYS = 365
 # (common practice, no source; the recorded extremes lie inside them).
 TEMP_MIN_C = -60.0
 TEMP_MAX_C = 60.0
+# Dates outside this span are taken as misread rather than as history.
+EARLIEST = "1900-01-01"
+LATEST = "2199-12-31"
 DELIMITERS = (",", ";", "\t", "|")
 _MISSING_TOKENS = {"", "na", "n/a", "nan", "null", "none", "-", "--", "?", "#n/a"}
 
@@ -641,23 +644,32 @@ def _parse_family(values: pd.Series, date_part: str) -> pd.Series:
         if chosen is None:
             break
         untried.remove(chosen)
-        parsed = pd.to_datetime(
-            pd.Series(text[todo]), format=date_part + chosen, errors="coerce"
-        ).to_numpy(dtype="datetime64[ns]")
+        parsed = _to_ns(
+            pd.to_datetime(pd.Series(text[todo]), format=date_part + chosen, errors="coerce")
+        )
         got = ~np.isnat(parsed)
         out[todo[got]] = parsed[got]
         todo = todo[~got]
     return pd.Series(out, index=values.index)
 
 
-def _parse_iso8601(values: pd.Series) -> pd.Series:
-    try:
-        parsed = pd.to_datetime(values, format="ISO8601", errors="coerce", utc=False)
-    except (ValueError, TypeError):
-        return pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")
+def _to_ns(parsed: pd.Series) -> np.ndarray:
+    """datetime64[ns] values; dates outside EARLIEST..LATEST become NaT (unreadable)."""
     if isinstance(parsed.dtype, pd.DatetimeTZDtype):
         parsed = parsed.dt.tz_localize(None)
-    return parsed.astype("datetime64[ns]")
+    values = parsed.to_numpy(dtype="datetime64[us]")
+    outside = (values < np.datetime64(EARLIEST, "us")) | (values > np.datetime64(LATEST, "us"))
+    values = values.copy()
+    values[outside] = np.datetime64("NaT")
+    return values.astype("datetime64[ns]")
+
+
+def _parse_iso8601(values: pd.Series) -> pd.Series:
+    try:
+        parsed = pd.to_datetime(values, format="ISO8601", errors="coerce")
+        return pd.Series(_to_ns(parsed), index=values.index)
+    except (ValueError, TypeError, OverflowError):
+        return pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")
 
 
 def _regularity(stamps: pd.Series) -> tuple[int, int]:
@@ -675,11 +687,10 @@ def _parse_dates(raw: _Raw, settings: HistorySettings, issues: _Collector) -> pd
     values = raw.date
     column = raw.names[0]
     if pd.api.types.is_datetime64_any_dtype(values):
-        stamps = pd.Series(values).astype("datetime64[ns]")
-        if isinstance(values.dtype, pd.DatetimeTZDtype):
-            stamps = values.dt.tz_localize(None).astype("datetime64[ns]")
-        blank_mask = stamps.isna().to_numpy()
-        _report_bad_dates(raw, blank_mask, np.zeros(len(values), bool), column, issues)
+        stamps = pd.Series(_to_ns(pd.Series(values)), index=values.index)
+        blank_mask = values.isna().to_numpy()
+        bad_mask = stamps.isna().to_numpy() & ~blank_mask
+        _report_bad_dates(raw, blank_mask, bad_mask, column, issues, text=values.astype(str))
         return stamps
     text = values.astype(str)
     blank = text.str.strip().eq("")
@@ -697,7 +708,7 @@ def _parse_dates(raw: _Raw, settings: HistorySettings, issues: _Collector) -> pd
             )
             return pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")
         chosen = settings.date_format
-        parsed_filled = stamps_f.astype("datetime64[ns]")
+        parsed_filled = pd.Series(_to_ns(stamps_f), index=filled.index)
     else:
         sample = pd.concat([filled.head(200), filled.tail(200)]).reset_index(drop=True)
         candidates: list[tuple[str, pd.Series]] = []
