@@ -950,7 +950,8 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
             column=date_name,
             fix="Nothing to do",
         )
-    if typical > 1:
+    has_time = bool((stamps_v != day).any())
+    if typical > 1 and has_time:
         daily = _aggregate(
             day, stamps_v, rows, demand_v, temp_v, typical, settings, raw.names, issues
         )
@@ -958,7 +959,10 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
         dup_days = counts[counts > 1]
         if len(dup_days):
             dup_list = sorted(dup_days.index)
-            row_lists = [rows[(day == d).to_numpy()].tolist() for d in dup_list]
+            day_values = day.to_numpy()
+            row_lists = [
+                rows[day_values == np.datetime64(d, "ns")].tolist() for d in dup_list[:MAX_LISTED]
+            ]
             issues.many(
                 "error",
                 lambda i: (
@@ -971,7 +975,6 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
                 fix="Keep one row per date in daily data (delete or merge the duplicates)",
                 column=date_name,
             )
-        has_time = (stamps_v != day).any()
         if has_time:
             issues.add(
                 "info",

@@ -274,6 +274,15 @@ def test_duplicate_dates_list_the_rows():
     assert errors[0].date == "2023-01-10"
 
 
+def test_a_daily_file_pasted_twice_is_duplicates_not_subdaily():
+    lines = to_csv(table())
+    report = check_history(as_bytes(lines + lines[1:]))
+    errors = only(report, "error", "appears 2 times")
+    assert len(errors) == MAX_LISTED and "rows 1, 401" in errors[0].message
+    assert "380 more duplicated dates" in report.errors[-1].message
+    assert not only(report, "info", "aggregated")
+
+
 def test_non_numeric_values_are_errors_with_row_date_column():
     frame = table().astype({"demand": object, "temperature": object})
     frame.loc[4, "demand"] = "1,2,3"
