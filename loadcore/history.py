@@ -514,20 +514,16 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: _Collector) -> 
         )
     data = records[header_at + 1 :]
     needed = max(positions) + 1
-    keep_rows: list[int] = []
-    values: list[list[str]] = [[], [], []]
-    blank_rows: list[int] = []
-    short_rows: list[tuple[int, int]] = []
-    for k, rec in enumerate(data, start=1):
-        if not any(c.strip() for c in rec):
-            blank_rows.append(k)
-            continue
-        if len(rec) < needed:
-            short_rows.append((k, len(rec)))
-            continue
-        keep_rows.append(k)
-        for slot, p in enumerate(positions):
-            values[slot].append(rec[p].strip())
+    numbers = np.arange(1, len(data) + 1, dtype=np.int64)
+    lengths = np.fromiter(map(len, data), dtype=np.int64, count=len(data))
+    blank = np.fromiter((not "".join(rec).strip() for rec in data), dtype=bool, count=len(data))
+    short = ~blank & (lengths < needed)
+    keep = ~blank & ~short
+    kept = [rec for rec, k in zip(data, keep.tolist(), strict=True) if k]
+    columns = [pd.Series([rec[p].strip() for rec in kept], dtype=object) for p in positions]
+    keep_rows = numbers[keep]
+    blank_rows = numbers[blank].tolist()
+    short_rows = list(zip(numbers[short].tolist(), lengths[short].tolist(), strict=True))
     if blank_rows:
         issues.many(
             "info",
@@ -550,10 +546,10 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: _Collector) -> 
             rows=[r for r, _ in short_rows],
         )
     return _Raw(
-        rows=np.asarray(keep_rows, dtype=np.int64),
-        date=pd.Series(values[0], dtype=object),
-        demand=pd.Series(values[1], dtype=object),
-        temperature=pd.Series(values[2], dtype=object),
+        rows=keep_rows,
+        date=columns[0],
+        demand=columns[1],
+        temperature=columns[2],
         names=names,  # type: ignore[arg-type]
         delimiter=delim,
     )
@@ -813,9 +809,12 @@ def _parse_numbers(
     if pd.api.types.is_numeric_dtype(values):
         numbers = np.array(pd.to_numeric(values, errors="coerce"), dtype=float)
         return numbers, np.isnan(numbers)
-    text = values.astype(str).str.strip()
-    blank = text.str.lower().isin(_MISSING_TOKENS).to_numpy()
-    numbers = np.array(pd.to_numeric(text.where(~blank, None), errors="coerce"), dtype=float)
+    text = pd.Series([str(v).strip() for v in values], index=values.index, dtype=object)
+    blank = np.fromiter((v.lower() in _MISSING_TOKENS for v in text), dtype=bool, count=len(text))
+    try:  # fast path: every filled cell is a plain number
+        numbers = np.array(np.where(blank, "nan", text.to_numpy()), dtype=float)
+    except ValueError:
+        numbers = np.array(pd.to_numeric(text.where(~blank, None), errors="coerce"), dtype=float)
     bad = ~blank & np.isnan(numbers)
     if bad.any():
         cleaned = text[bad].str.replace(r"[\s_]", "", regex=True)
