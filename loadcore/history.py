@@ -660,9 +660,15 @@ def _to_ns(parsed: pd.Series) -> np.ndarray:
     return values.astype("datetime64[ns]")
 
 
+_UTC_OFFSET = re.compile(r"(?:Z|[+-]\d{2}:?\d{2})$")
+
+
 def _parse_iso8601(values: pd.Series) -> pd.Series:
+    # Keep the local wall-clock time: a trailing UTC offset (which changes with daylight saving)
+    # is dropped, so each reading stays on its local day.
+    local = values.astype(str).str.replace(_UTC_OFFSET, "", regex=True)
     try:
-        parsed = pd.to_datetime(values, format="ISO8601", errors="coerce")
+        parsed = pd.to_datetime(local, format="ISO8601", errors="coerce")
         return pd.Series(_to_ns(parsed), index=values.index)
     except (ValueError, TypeError, OverflowError):
         return pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")

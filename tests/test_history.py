@@ -242,6 +242,20 @@ def test_repeated_times_in_subdaily_data_are_warned_about():
     assert [i.row for i in repeated] == [4, 5]
 
 
+def test_utc_offsets_keep_readings_on_their_local_day():
+    """Hourly readings stamped with a UTC offset that changes at the daylight-saving switch
+    (US Central time moved back one hour on 2023-11-05: IANA time zone database)."""
+    stamps = pd.date_range("2023-01-01", periods=24 * 370, freq="h", tz="America/Chicago")
+    lines = ["time,demand,temperature"] + [
+        f"{t.isoformat()},{1000 + t.hour},{5 + t.hour * 0.1:.1f}" for t in stamps
+    ]
+    history = read_history(as_bytes(lines), HistorySettings(date_col="time"))
+    assert history.start == pd.Timestamp("2023-01-01")
+    assert (history.frame["demand"] == 1023.0).all()
+    repeated = only(history.report, "warning", "appears more than once")
+    assert {i.date for i in repeated} == {"2023-11-05"}
+
+
 # ---------------------------------------------------------------------------------------------
 # Validation rules and their messages
 # ---------------------------------------------------------------------------------------------
