@@ -1,0 +1,439 @@
+"""Plotly figures for the planner app.
+
+Each function takes loadcore results (already computed) and returns a ``plotly.graph_objects.Figure``;
+nothing here computes a statistic. Temperatures arrive in °C and are converted for display with the
+``to_unit`` callable the page passes (identity for °C).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping, Sequence
+
+import numpy as np
+import pandas as pd
+import plotly.graph_objects as go
+from plotly.subplots import make_subplots
+
+from app import palette
+
+Convert = Callable[[np.ndarray], np.ndarray]
+
+
+def _identity(values):
+    return values
+
+
+def _style(fig: go.Figure, *, height: int, font_size: int = 14, legend_top: bool = True) -> None:
+    fig.update_layout(
+        height=height,
+        margin={"l": 60, "r": 20, "t": 40, "b": 40},
+        paper_bgcolor=palette.PAPER,
+        plot_bgcolor="white",
+        font={"family": palette.FONT_FAMILY, "size": font_size, "color": palette.INK},
+        hovermode="x unified",
+    )
+    if legend_top:
+        fig.update_layout(
+            legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0}
+        )
+    fig.update_xaxes(gridcolor=palette.GRID, zeroline=False)
+    fig.update_yaxes(gridcolor=palette.GRID, zeroline=False)
+
+
+def history_figure(
+    frame: pd.DataFrame,
+    day_types: pd.Series,
+    *,
+    to_unit: Convert = _identity,
+    unit: str = "°C",
+) -> go.Figure:
+    """Demand over time coloured by day type, with the temperature beneath on a shared time axis.
+
+    Parameters
+    ----------
+    frame : pd.DataFrame
+        ``History.frame`` (daily index; ``demand`` in MW, ``temperature_c`` in °C).
+    day_types : pd.Series
+        Day type for each date of ``frame``.
+    """
+    fig = make_subplots(
+        rows=2,
+        cols=1,
+        shared_xaxes=True,
+        vertical_spacing=0.05,
+        row_heights=[0.66, 0.34],
+    )
+    dates = frame.index
+    fig.add_trace(
+        go.Scattergl(
+            x=dates,
+            y=frame["demand"],
+            mode="lines",
+            line={"color": palette.GRID, "width": 1},
+            name="daily demand",
+            showlegend=False,
+            hoverinfo="skip",
+        ),
+        row=1,
+        col=1,
+    )
+    types = day_types.reindex(dates)
+    colours = palette.day_type_colours(list(pd.unique(types)))
+    for name, colour in colours.items():
+        mask = (types == name).to_numpy()
+        fig.add_trace(
+            go.Scattergl(
+                x=dates[mask],
+                y=frame["demand"].to_numpy()[mask],
+                mode="markers",
+                marker={"color": colour, "size": 4},
+                name=name.replace("_", " "),
+                legendgroup=name,
+                hovertemplate="%{x|%a %d %b %Y}: %{y:,.0f} MW<extra>" + name + "</extra>",
+            ),
+            row=1,
+            col=1,
+        )
+    fig.add_trace(
+        go.Scattergl(
+            x=dates,
+            y=to_unit(frame["temperature_c"].to_numpy()),
+            mode="lines",
+            line={"color": palette.TEMPERATURE, "width": 1},
+            name="daily maximum temperature",
+            hovertemplate="%{y:.1f} " + unit + "<extra></extra>",
+        ),
+        row=2,
+        col=1,
+    )
+    fig.update_yaxes(title_text="demand, MW", row=1, col=1)
+    fig.update_yaxes(title_text=f"temperature, {unit}", row=2, col=1)
+    _style(fig, height=560)
+    return fig
+
+
+def response_figure(
+    frame: pd.DataFrame,
+    day_types: pd.Series,
+    *,
+    curve_c: np.ndarray | None = None,
+    curve_mw: np.ndarray | None = None,
+    range_c: tuple[float, float] | None = None,
+    to_unit: Convert = _identity,
+    unit: str = "°C",
+) -> go.Figure:
+    """Demand against temperature coloured by day type, with the fitted response and range."""
+    fig = go.Figure()
+    types = day_types.reindex(frame.index)
+    colours = palette.day_type_colours(list(pd.unique(types)))
+    temps = to_unit(frame["temperature_c"].to_numpy())
+    for name, colour in colours.items():
+        mask = (types == name).to_numpy()
+        fig.add_trace(
+            go.Scattergl(
+                x=temps[mask],
+                y=frame["demand"].to_numpy()[mask],
+                mode="markers",
+                marker={"color": colour, "size": 5, "opacity": 0.6},
+                name=name.replace("_", " "),
+            )
+        )
+    if range_c is not None:
+        low, high = (float(v) for v in to_unit(np.asarray(range_c, dtype=float)))
+        fig.add_vrect(
+            x0=low,
+            x1=high,
+            fillcolor=palette.RANGE_BAND,
+            line_width=0,
+            layer="below",
+            annotation_text="fitted temperature range",
+            annotation_position="top left",
+        )
+    if curve_c is not None and curve_mw is not None:
+        fig.add_trace(
+            go.Scatter(
+                x=to_unit(np.asarray(curve_c, dtype=float)),
+                y=np.asarray(curve_mw, dtype=float),
+                mode="lines",
+                line={"color": palette.INK, "width": 3},
+                name="fitted response (reference day type)",
+            )
+        )
+    fig.update_xaxes(title_text=f"daily maximum temperature, {unit}")
+    fig.update_yaxes(title_text="demand, MW")
+    _style(fig, height=460)
+    fig.update_layout(hovermode="closest")
+    return fig
+
+
+def path_figure(
+    dates: pd.DatetimeIndex,
+    temperature_c: np.ndarray,
+    range_c: tuple[float, float],
+    *,
+    to_unit: Convert = _identity,
+    unit: str = "°C",
+) -> go.Figure:
+    """A scenario's temperature path against the fitted temperature range (band shaded)."""
+    temps_c = np.asarray(temperature_c, dtype=float)
+    low_c, high_c = (float(v) for v in range_c)
+    low, high = (float(v) for v in to_unit(np.array([low_c, high_c])))
+    fig = go.Figure()
+    fig.add_hrect(
+        y0=low,
+        y1=high,
+        fillcolor=palette.RANGE_BAND,
+        line_width=0,
+        layer="below",
+        annotation_text="fitted temperature range",
+        annotation_position="top left",
+    )
+    for edge in (low, high):
+        fig.add_hline(y=edge, line={"color": palette.RANGE_EDGE, "width": 1, "dash": "dot"})
+    shown = to_unit(temps_c)
+    fig.add_trace(
+        go.Scatter(
+            x=dates,
+            y=shown,
+            mode="lines+markers",
+            line={"color": palette.TEMPERATURE, "width": 2},
+            marker={"size": 5},
+            name="scenario temperature",
+            hovertemplate="%{x|%a %d %b}: %{y:.1f} " + unit + "<extra></extra>",
+        )
+    )
+    outside = (temps_c > high_c) | (temps_c < low_c)
+    if outside.any():
+        fig.add_trace(
+            go.Scatter(
+                x=dates[outside],
+                y=shown[outside],
+                mode="markers",
+                marker={"color": palette.OUTSIDE, "size": 11, "symbol": palette.OUTSIDE_SYMBOL},
+                name="outside the fitted range",
+            )
+        )
+    fig.update_yaxes(title_text=f"daily maximum temperature, {unit}")
+    _style(fig, height=320)
+    return fig
+
+
+def comparison_figure(
+    history_tail: pd.Series,
+    forecasts: Sequence,
+    *,
+    levels: Sequence[int] = (80, 95),
+    meeting: bool = False,
+) -> go.Figure:
+    """The tail of the history with each scenario's mean and its interval bands.
+
+    Parameters
+    ----------
+    history_tail : pd.Series
+        Demand in MW on the last days of the history (daily index).
+    forecasts : sequence of Forecast
+        loadcore forecasts; ``frame`` has ``date``, ``mean``, ``lower_L``/``upper_L`` and
+        ``out_of_range``.
+    meeting : bool
+        Large fonts and a tall chart for a projector.
+    """
+    fig = go.Figure()
+    fig.add_trace(
+        go.Scatter(
+            x=history_tail.index,
+            y=history_tail.to_numpy(),
+            mode="lines",
+            line={"color": palette.HISTORY, "width": 2},
+            name="history",
+            hovertemplate="%{y:,.0f} MW<extra>history</extra>",
+        )
+    )
+    alphas = {level: a for level, a in zip(sorted(levels), (0.30, 0.14, 0.08), strict=False)}
+    for i, fc in enumerate(forecasts):
+        colour = palette.scenario_colour(i)
+        frame = fc.frame
+        dates = pd.DatetimeIndex(frame["date"])
+        group = f"scenario-{i}"
+        for level in sorted(levels, reverse=True):
+            lower, upper = frame[f"lower_{level}"].to_numpy(), frame[f"upper_{level}"].to_numpy()
+            fig.add_trace(
+                go.Scatter(
+                    x=np.concatenate([dates, dates[::-1]]),
+                    y=np.concatenate([upper, lower[::-1]]),
+                    fill="toself",
+                    fillcolor=palette.band_fill(colour, alphas.get(level, 0.1)),
+                    line={"width": 0},
+                    hoverinfo="skip",
+                    name=f"{fc.scenario_name}: {level}% interval",
+                    legendgroup=group,
+                    showlegend=not meeting,
+                )
+            )
+        fig.add_trace(
+            go.Scatter(
+                x=dates,
+                y=frame["mean"].to_numpy(),
+                mode="lines",
+                line={"color": colour, "width": 3 if meeting else 2},
+                name=f"{fc.scenario_name}: mean",
+                legendgroup=group,
+                hovertemplate="%{y:,.0f} MW<extra>" + fc.scenario_name + "</extra>",
+            )
+        )
+        outside = frame["out_of_range"].astype(bool).to_numpy()
+        if outside.any():
+            fig.add_trace(
+                go.Scatter(
+                    x=dates[outside],
+                    y=frame["mean"].to_numpy()[outside],
+                    mode="markers",
+                    marker={
+                        "color": palette.OUTSIDE,
+                        "size": 14 if meeting else 10,
+                        "symbol": palette.OUTSIDE_SYMBOL,
+                        "line": {"color": "white", "width": 1},
+                    },
+                    name=f"{fc.scenario_name}: outside the fitted temperature range",
+                    legendgroup=group,
+                )
+            )
+    fig.update_yaxes(title_text="daily peak demand, MW")
+    _style(fig, height=720 if meeting else 480, font_size=22 if meeting else 14)
+    return fig
+
+
+def fan_figure(
+    daily: pd.DataFrame,
+    *,
+    history_tail: pd.Series | None = None,
+    threshold_mw: float | None = None,
+) -> go.Figure:
+    """A fan chart of an ensemble's P10-P90 band with the median and an optional threshold line."""
+    fig = go.Figure()
+    dates = pd.DatetimeIndex(daily["date"])
+    colour = palette.SCENARIOS[0]
+    if history_tail is not None:
+        fig.add_trace(
+            go.Scatter(
+                x=history_tail.index,
+                y=history_tail.to_numpy(),
+                mode="lines",
+                line={"color": palette.HISTORY, "width": 2},
+                name="history",
+            )
+        )
+    fig.add_trace(
+        go.Scatter(
+            x=np.concatenate([dates, dates[::-1]]),
+            y=np.concatenate([daily["p90"].to_numpy(), daily["p10"].to_numpy()[::-1]]),
+            fill="toself",
+            fillcolor=palette.band_fill(colour, 0.22),
+            line={"width": 0},
+            name="P10 to P90",
+            hoverinfo="skip",
+        )
+    )
+    fig.add_trace(
+        go.Scatter(
+            x=dates,
+            y=daily["p50"].to_numpy(),
+            mode="lines",
+            line={"color": colour, "width": 2},
+            name="P50",
+        )
+    )
+    if threshold_mw is not None:
+        fig.add_hline(
+            y=float(threshold_mw),
+            line={"color": palette.THRESHOLD, "width": 2, "dash": "dash"},
+            annotation_text=f"threshold {threshold_mw:,.0f} MW",
+            annotation_position="top left",
+        )
+    fig.update_yaxes(title_text="daily peak demand, MW")
+    _style(fig, height=440)
+    return fig
+
+
+def bars_figure(
+    x: Sequence,
+    y: Sequence,
+    *,
+    x_title: str,
+    y_title: str,
+    colour: str = palette.SCENARIOS[0],
+    hlines: Mapping[str, float] | None = None,
+    height: int = 320,
+) -> go.Figure:
+    """A plain bar chart (ACF bars, PIT histogram, peak distribution) with optional guide lines."""
+    fig = go.Figure(go.Bar(x=list(x), y=list(y), marker={"color": colour}, showlegend=False))
+    for label, value in (hlines or {}).items():
+        fig.add_hline(
+            y=float(value),
+            line={"color": palette.OUTSIDE, "width": 1, "dash": "dash"},
+            annotation_text=label,
+            annotation_position="top right",
+        )
+    fig.update_xaxes(title_text=x_title)
+    fig.update_yaxes(title_text=y_title)
+    _style(fig, height=height, legend_top=False)
+    fig.update_layout(hovermode="closest")
+    return fig
+
+
+def histogram_figure(
+    values: np.ndarray,
+    *,
+    x_title: str,
+    y_title: str,
+    bins: int = 40,
+    height: int = 280,
+) -> go.Figure:
+    """A histogram of ``values``, binned by the chart library when it draws."""
+    fig = go.Figure(
+        go.Histogram(
+            x=np.asarray(values, dtype=float),
+            nbinsx=bins,
+            marker={"color": palette.SCENARIOS[2]},
+            showlegend=False,
+        )
+    )
+    fig.update_xaxes(title_text=x_title)
+    fig.update_yaxes(title_text=y_title)
+    _style(fig, height=height, legend_top=False)
+    fig.update_layout(hovermode="closest", bargap=0.04)
+    return fig
+
+
+def lines_figure(
+    frame: pd.DataFrame,
+    x: str,
+    ys: Sequence[str],
+    *,
+    x_title: str,
+    y_title: str,
+    height: int = 320,
+    hlines: Mapping[str, float] | None = None,
+) -> go.Figure:
+    """Several columns of ``frame`` against ``x`` as lines (residuals, scores by horizon)."""
+    fig = go.Figure()
+    for i, column in enumerate(ys):
+        fig.add_trace(
+            go.Scatter(
+                x=frame[x],
+                y=frame[column],
+                mode="lines+markers" if len(frame) <= 120 else "lines",
+                line={"color": palette.scenario_colour(i), "width": 2},
+                name=column.replace("_", " "),
+            )
+        )
+    for label, value in (hlines or {}).items():
+        fig.add_hline(
+            y=float(value),
+            line={"color": palette.MUTED, "width": 1, "dash": "dot"},
+            annotation_text=label,
+            annotation_position="top left",
+        )
+    fig.update_xaxes(title_text=x_title)
+    fig.update_yaxes(title_text=y_title)
+    _style(fig, height=height)
+    return fig

@@ -1,0 +1,133 @@
+"""Backtests: how well the model's settings would have forecast the past, day by day ahead."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.evaluate import backtest
+
+st.title("Backtests")
+fitted = state.need_model()
+history = state.history()
+settings = fitted.settings
+st.caption(
+    "The model's settings are used to forecast from many past dates (origins) with only the data "
+    "before each one, and the forecasts are scored against what happened. Ex post uses the actual "
+    "temperatures; ex ante uses weather ensembles from earlier years, as a real forecast would."
+)
+
+with st.form("bt_form", border=True):
+    a, b, c = st.columns(3)
+    horizon = a.number_input("Days ahead", 1, 60, 14, key="bt_horizon")
+    origins = b.number_input("Origins", 2, 100, 20, key="bt_origins")
+    mode = c.radio(
+        "Temperatures",
+        ["ex_post", "ex_ante"],
+        format_func=lambda m: {"ex_post": "actual (ex post)", "ex_ante": "ensembles (ex ante)"}[m],
+        key="bt_mode",
+    )
+    run = st.form_submit_button("Run the backtest", type="primary")
+
+if run:
+    bar = st.progress(0.0, text="Starting the backtest...")
+
+    def _progress(done: int, total: int, text: str) -> None:
+        bar.progress(min(done / max(total, 1), 1.0), text=text)
+
+    try:
+        result = backtest(
+            history,
+            settings,
+            horizon=int(horizon),
+            origins=int(origins),
+            mode=mode,
+            progress=_progress,
+        )
+    except LoadcoreError as exc:
+        bar.empty()
+        state.show_error(exc, "The backtest could not be run")
+    else:
+        bar.empty()
+        st.session_state[state.BACKTEST] = {
+            "key": (history.fingerprint, repr(settings)),
+            "result": result,
+        }
+
+kept = st.session_state.get(state.BACKTEST)
+if not kept or kept["key"] != (history.fingerprint, repr(settings)):
+    st.info("Choose the set-up and press **Run the backtest**.")
+    state.footer()
+    st.stop()
+
+result = kept["result"]
+summary = result.summary
+st.markdown(
+    f"**{summary['mode_label']}**: {summary['n_origins']} origins from {summary['first_origin']} "
+    f"to {summary['last_origin']}, {summary['horizon']} days ahead each. Error model: "
+    f"{summary['orders']}."
+)
+levels = [str(int(lv)) if float(lv).is_integer() else str(lv) for lv in result.levels]
+cols = st.columns(2 + len(levels))
+cols[0].metric("MAPE over all days", f"{summary['mape']:.2f} %")
+cols[1].metric(
+    "MASE (1 = same-weekday-last-week)",
+    f"{summary['mase']:.3f}",
+    f"naive {summary['naive_mase']:.3f}",
+    delta_color="off",
+)
+for i, level in enumerate(levels):
+    cols[2 + i].metric(
+        f"Days inside the {level} % interval",
+        f"{100 * summary[f'coverage_{level}']:.0f} %",
+        f"aim {level} %",
+        delta_color="off",
+    )
+
+by_h = result.by_horizon
+st.subheader("By days ahead")
+left, right = st.columns(2)
+left.plotly_chart(
+    charts.lines_figure(
+        by_h, "horizon", ["mape", "naive_mape"], x_title="days ahead", y_title="MAPE, %"
+    ),
+    key="bt_mape",
+)
+coverage_cols = [f"coverage_{lv}" for lv in levels]
+right.plotly_chart(
+    charts.lines_figure(
+        by_h.assign(**{c: by_h[c] * 100 for c in coverage_cols}),
+        "horizon",
+        coverage_cols,
+        x_title="days ahead",
+        y_title="share of days inside the interval, %",
+        hlines={f"aim {lv} %": float(lv) for lv in levels},
+    ),
+    key="bt_coverage",
+)
+st.dataframe(by_h, hide_index=True, width="stretch")
+
+st.subheader("PIT histogram")
+counts, edges = result.pit_histogram(10)
+share = counts / max(counts.sum(), 1) * 100
+st.plotly_chart(
+    charts.bars_figure(
+        np.round((edges[:-1] + edges[1:]) / 2, 2),
+        share,
+        x_title="PIT value",
+        y_title="share of days, %",
+        hlines={"flat = well calibrated": 100 / len(counts)},
+    ),
+    key="bt_pit",
+)
+st.caption(
+    "Each bar counts where the actual demand fell within its forecast distribution. Flat bars mean "
+    "well-calibrated intervals; a U shape means intervals too narrow, a hump too wide."
+)
+with st.expander("Every backtest forecast"):
+    st.dataframe(pd.DataFrame(result.forecasts), hide_index=True, width="stretch")
+st.caption(summary.get("note", ""))
+state.footer()

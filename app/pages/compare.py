@@ -1,0 +1,193 @@
+"""Step 4: compare the scenarios in the set: chart, warnings, summary, daily table, downloads."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.export import comparison_summary, forecast_frame, to_csv_bytes
+
+fitted = state.need_model() if not st.session_state.get(state.MEETING) else state.model()
+if fitted is None:
+    st.session_state[state.MEETING] = False
+    fitted = state.need_model()
+forecasts = state.forecasts_for_set(fitted)
+meeting = bool(st.session_state.get(state.MEETING))
+
+
+def _leave_meeting() -> None:
+    st.session_state[state.MEETING] = False
+
+
+if not forecasts:
+    st.title("Compare")
+    st.info("The set is empty. Build a scenario and add it to the set first.")
+    st.page_link("pages/scenario.py", label="Build a scenario", icon=":material/thermostat:")
+    if meeting:
+        st.button("Leave the meeting view", on_click=_leave_meeting)
+    state.footer()
+    st.stop()
+
+names = list(forecasts)
+range_c = fitted.temperature_range_c
+unit = state.temp_unit()
+
+if meeting:
+    # Meeting view: the chart large, the controls hidden, fonts readable on a projector.
+    st.html(
+        "<style>"
+        "section[data-testid='stSidebar'], [data-testid='stSidebarCollapsedControl'],"
+        "header[data-testid='stHeader'] {display: none;}"
+        ".block-container {padding-top: 1rem; max-width: 100%;}"
+        ".stMarkdown p, .stMarkdown li, .stAlert p {font-size: 1.45rem; line-height: 1.5;}"
+        "h1 {font-size: 2.6rem !important;}"
+        "</style>"
+    )
+    st.title("Demand scenarios")
+    st.markdown(
+        f"History to {fitted.history_end.date():%d %B %Y}, then each scenario's mean daily peak "
+        "with its 80 % and 95 % prediction intervals."
+    )
+    tail = fitted.history.frame["demand"].iloc[-42:]
+    st.plotly_chart(
+        charts.comparison_figure(tail, list(forecasts.values()), meeting=True),
+        key="meeting_chart",
+    )
+    summary = comparison_summary(list(forecasts.values()), names[0])
+    cols = st.columns(min(len(summary), 4))
+    for i, row in enumerate(summary.itertuples(index=False)):
+        cols[i % len(cols)].metric(
+            row.scenario,
+            f"{row.peak_mean:,.0f} MW",
+            f"{row.peak_vs_base:+,.0f} MW vs {names[0]}" if i else None,
+            delta_color="inverse",
+            help=f"Highest daily mean, on {row.peak_date:%a %d %b}",
+        )
+    lines = state.out_of_range_lines(forecasts.values(), range_c)
+    if lines:
+        st.warning(
+            "Outside the fitted temperature range (extrapolated):\n\n"
+            + "\n".join(f"- {line}" for line in lines)
+        )
+    st.button("Leave the meeting view", on_click=_leave_meeting, key="leave_meeting")
+    state.footer()
+    st.stop()
+
+st.title("Compare")
+left, middle, right = st.columns([2, 2, 1])
+shown = left.multiselect("Scenarios on the chart", names, default=names, key="cmp_shown")
+base_name = middle.selectbox("Compare against (base scenario)", names, key="cmp_base")
+tail_days = right.number_input("History days shown", 7, 730, 56, step=7, key="cmp_tail")
+
+chosen = [forecasts[n] for n in shown]
+tail = fitted.history.frame["demand"].iloc[-int(tail_days) :]
+st.plotly_chart(charts.comparison_figure(tail, chosen), key="cmp_chart")
+st.caption(
+    "Lines are mean daily peaks; shaded bands are 80 % and 95 % prediction intervals that treat "
+    "the scenario temperatures as known. Triangles mark days outside the fitted temperature range."
+)
+
+lines = state.out_of_range_lines(forecasts.values(), range_c)
+if lines:
+    low, high = (state.fmt_temp(v) for v in range_c)
+    st.warning(
+        f"{len(lines)} scenario day(s) lie outside the fitted temperature range ({low} to "
+        f"{high}); the forecast there is an extrapolation of the fitted response:\n\n"
+        + "\n".join(f"- {line}" for line in lines),
+        icon=":material/thermostat:",
+    )
+for name, scenario in state.scenarios().items():
+    if name in forecasts:
+        state.heat_note(name, scenario.temperature_c)
+
+# --------------------------------------------------------------------------------------------
+# Summary per scenario
+# --------------------------------------------------------------------------------------------
+st.subheader("Summary")
+try:
+    summary = comparison_summary(list(forecasts.values()), base_name)
+except LoadcoreError as exc:
+    state.show_error(exc)
+else:
+    table = summary.rename(
+        columns={
+            "scenario": "scenario",
+            "days": "days",
+            "peak_date": "peak day",
+            "peak_mean": "peak, MW",
+            "sum_of_daily_means": "sum of daily means, MW-days",
+            "peak_vs_base": f"peak vs {base_name}, MW",
+            "peak_vs_base_pct": f"peak vs {base_name}, %",
+            "sum_vs_base": f"sum vs {base_name}, MW-days",
+            "sum_vs_base_pct": f"sum vs {base_name}, %",
+            "days_out_of_range": "days outside fitted range",
+        }
+    ).drop(columns=["sum_unit"])
+    st.dataframe(
+        table,
+        hide_index=True,
+        width="stretch",
+        column_config={
+            "peak day": st.column_config.DateColumn(format="ddd YYYY-MM-DD"),
+            "peak, MW": st.column_config.NumberColumn(format="%.0f"),
+            "sum of daily means, MW-days": st.column_config.NumberColumn(format="%.0f"),
+            f"peak vs {base_name}, MW": st.column_config.NumberColumn(format="%+.0f"),
+            f"peak vs {base_name}, %": st.column_config.NumberColumn(format="%+.1f"),
+            f"sum vs {base_name}, MW-days": st.column_config.NumberColumn(format="%+.0f"),
+            f"sum vs {base_name}, %": st.column_config.NumberColumn(format="%+.1f"),
+        },
+    )
+    note = summary.attrs.get("sum_note")
+    if note:
+        st.caption(note)
+    if summary.attrs.get("horizon_note"):
+        st.caption(summary.attrs["horizon_note"])
+
+# --------------------------------------------------------------------------------------------
+# Daily table and downloads
+# --------------------------------------------------------------------------------------------
+st.subheader("Day by day")
+daily = forecast_frame(list(forecasts.values()), temp_unit=unit)
+st.dataframe(
+    daily,
+    hide_index=True,
+    width="stretch",
+    column_config={
+        "date": st.column_config.DateColumn(format="YYYY-MM-DD"),
+        "temperature": st.column_config.NumberColumn(
+            f"temperature, {state.unit_symbol()}", format="%.1f"
+        ),
+    },
+    height=360,
+)
+left, right = st.columns(2)
+left.download_button(
+    "Download every scenario's forecast (CSV)",
+    data=to_csv_bytes(daily),
+    file_name="loadcore_scenarios.csv",
+    mime="text/csv",
+    icon=":material/download:",
+    key="cmp_csv",
+    on_click="ignore",
+)
+with right:
+    which = st.selectbox("Scenario definition to download", names, key="cmp_def_pick")
+    st.download_button(
+        "Download the scenario definition (JSON, can be uploaded again)",
+        data=state.scenarios()[which].to_json().encode("utf-8"),
+        file_name=f"{which.strip().replace(' ', '_') or 'scenario'}.json",
+        mime="application/json",
+        icon=":material/download:",
+        key="cmp_json",
+        on_click="ignore",
+    )
+
+with st.expander("Remove scenarios from the set"):
+    drop = st.multiselect("Scenarios to remove", names, key="cmp_drop")
+    if st.button("Remove", disabled=not drop, key="cmp_drop_go"):
+        for name in drop:
+            state.scenarios().pop(name, None)
+        st.rerun()
+
+state.footer()

@@ -1,0 +1,114 @@
+"""Weather ensembles: the next weeks under the weather of past years, as odds rather than one path."""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.weather import ensemble_forecast
+
+st.title("Weather ensembles")
+fitted = state.need_model()
+st.caption(
+    "Instead of one temperature path, the same calendar window from every past year of the history "
+    "(each also shifted a few days earlier and later) is run through the model with its error "
+    "paths, and all of them are pooled into one spread of outcomes."
+)
+
+with st.form("ens_form", border=True):
+    a, b, c, d = st.columns(4)
+    days = a.number_input("Days ahead", 1, 90, 30, key="ens_days")
+    shift = b.number_input("Shift each past year by up to (days)", 0, 14, 3, key="ens_shift")
+    warming = c.number_input(
+        f"Warming added to every trace ({state.unit_symbol()})", value=0.0, step=0.5, key="ens_warm"
+    )
+    paths = d.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
+    a, b = st.columns(2)
+    threshold = a.number_input(
+        "Threshold, MW (0 for none)", min_value=0.0, value=0.0, step=50.0, key="ens_threshold"
+    )
+    seed = b.number_input("Seed", 0, 2**31 - 1, 0, key="ens_seed")
+    run = st.form_submit_button("Run the ensemble", type="primary")
+
+if run:
+    bar = st.progress(0.0, text="Running the weather traces...")
+
+    def _progress(done: int, total: int, text: str) -> None:
+        bar.progress(min(done / max(total, 1), 1.0), text=f"Trace {done} of {total}: {text}")
+
+    try:
+        result = ensemble_forecast(
+            fitted,
+            days=int(days),
+            shift_days=int(shift),
+            warming_c=state.delta_from_display(warming),
+            paths_per_trace=int(paths),
+            seed=int(seed),
+            threshold_mw=float(threshold) if threshold > 0 else None,
+            progress=_progress,
+        )
+    except LoadcoreError as exc:
+        bar.empty()
+        state.show_error(exc, "The ensemble could not be run")
+    else:
+        bar.empty()
+        st.session_state[state.ENSEMBLE] = {"model": state.model_key(fitted), "result": result}
+
+kept = st.session_state.get(state.ENSEMBLE)
+if not kept or kept["model"] != state.model_key(fitted):
+    st.info("Set the window and press **Run the ensemble**.")
+    state.footer()
+    st.stop()
+
+result = kept["result"]
+tail = fitted.history.frame["demand"].iloc[-28:]
+st.plotly_chart(
+    charts.fan_figure(result.daily, history_tail=tail, threshold_mw=result.threshold_mw),
+    key="ens_fan",
+)
+st.caption(result.note)
+
+cols = st.columns(4)
+cols[0].metric("Traces x paths", f"{result.n_traces} x {result.n_paths // max(result.n_traces, 1)}")
+cols[1].metric(
+    "Share of the spread due to weather",
+    f"{100 * result.weather_share:.0f} %",
+    help="Averaged over the window: the part of each day's predictive variance that comes from "
+    "the weather traces, the rest from the model's own errors.",
+)
+if result.threshold_mw is not None:
+    cols[2].metric(
+        f"Odds of any day above {result.threshold_mw:,.0f} MW",
+        f"{100 * result.prob_any_above:.0f} %",
+    )
+    cols[3].metric("Expected days above", f"{result.expected_days_above:.1f}")
+if result.out_of_range_share > 0:
+    st.warning(
+        f"{100 * result.out_of_range_share:.1f} % of the trace temperatures lie outside the "
+        "fitted temperature range; those days are extrapolated.",
+        icon=":material/thermostat:",
+    )
+
+st.subheader("Highest daily demand in the window")
+peak = result.peak_distribution
+hist = peak.to_frame()
+mid = (hist["low_mw"] + hist["high_mw"]) / 2
+st.plotly_chart(
+    charts.bars_figure(
+        mid.round(0),
+        hist["share"] * 100,
+        x_title="window peak, MW",
+        y_title="share of paths, %",
+        hlines=None,
+    ),
+    key="ens_peak",
+)
+st.markdown(
+    " · ".join(f"{name.upper()}: {value:,.0f} MW" for name, value in peak.quantiles.items())
+    + f" · mean: {peak.mean_mw:,.0f} MW"
+)
+
+st.subheader("Day by day")
+st.dataframe(result.daily, hide_index=True, width="stretch", height=320)
+state.footer()

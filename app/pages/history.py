@@ -1,0 +1,236 @@
+"""Step 1: the demand history, its validation report, charts and the day-type calendar."""
+
+from __future__ import annotations
+
+import hashlib
+
+import numpy as np
+import pandas as pd
+import streamlit as st
+
+from app import charts, state
+from loadcore.calendar import CalendarSpec, day_types, overrides_from_text
+from loadcore.errors import LoadcoreError
+from loadcore.export import check_upload_size
+from loadcore.history import HistorySettings, read_history
+
+st.title("History")
+st.caption(
+    "The daily demand and temperature the model learns from. The demo data (the invented Calder "
+    "Basin Power & Light) is loaded to start with; upload your own daily or sub-daily file below."
+)
+
+
+@st.cache_resource(max_entries=8, show_spinner="Reading and checking the file...")
+def _read_upload(_data: bytes, digest: str, settings: HistorySettings):
+    return read_history(_data, settings)
+
+
+# --------------------------------------------------------------------------------------------
+# Source: keep the demo data or upload a file
+# --------------------------------------------------------------------------------------------
+history = state.history()
+st.info(
+    f"In use: **{st.session_state[state.HISTORY_SOURCE]}**, {history.start.date()} to "
+    f"{history.end.date()} ({len(history.frame)} days).",
+    icon=":material/database:",
+)
+
+with st.expander("Upload a history file", expanded=False):
+    upload = st.file_uploader(
+        "History file (CSV or text; comma, semicolon, tab or pipe separated)",
+        type=["csv", "txt", "tsv"],
+        key="history_upload",
+    )
+    left, middle, right = st.columns(3)
+    date_col = left.text_input("Date column", value="date", key="history_date_col")
+    demand_col = middle.text_input("Demand column", value="demand", key="history_demand_col")
+    temp_col = right.text_input("Temperature column", value="temperature", key="history_temp_col")
+    left, middle, right = st.columns(3)
+    file_unit = left.radio(
+        "Temperatures in the file are in",
+        ["C", "F"],
+        format_func=state.unit_symbol,
+        horizontal=True,
+        key="history_file_unit",
+    )
+    temp_kind = middle.radio(
+        "The temperature is the day's",
+        ["max", "mean"],
+        format_func=lambda kind: {"max": "maximum", "mean": "mean"}[kind],
+        horizontal=True,
+        key="history_temp_kind",
+    )
+    subdaily = right.radio(
+        "With several readings a day, demand is the day's",
+        ["peak", "total"],
+        horizontal=True,
+        key="history_subdaily",
+        help="Hourly or half-hourly files are turned into one row a day: the peak or the total.",
+    )
+    date_format = st.text_input(
+        "Date format (leave blank to detect)",
+        value="",
+        placeholder="e.g. %d/%m/%Y",
+        key="history_date_format",
+    )
+    if st.button("Check and use this file", type="primary", disabled=upload is None):
+        data = upload.getvalue()
+        try:
+            check_upload_size(len(data))
+            settings = HistorySettings(
+                date_col=date_col.strip() or "date",
+                demand_col=demand_col.strip() or "demand",
+                temp_col=temp_col.strip() or "temperature",
+                temp_unit=file_unit,
+                temp_kind=temp_kind,
+                subdaily_demand=subdaily,
+                date_format=date_format.strip() or None,
+            )
+            new = _read_upload(data, hashlib.sha256(data).hexdigest(), settings)
+        except LoadcoreError as exc:
+            state.show_error(exc, "The file was not used")
+            st.caption("The history in use, the model and the scenarios are unchanged.")
+        else:
+            st.session_state[state.HISTORY] = new
+            st.session_state[state.HISTORY_SOURCE] = f"uploaded file {upload.name}"
+            st.success(f"Using {upload.name}: {new.start.date()} to {new.end.date()}.")
+            st.rerun()
+    if st.session_state[state.HISTORY_SOURCE] != "demo data (Calder Basin Power & Light)":
+        if st.button("Go back to the demo data"):
+            st.session_state[state.HISTORY] = state.demo_history()
+            st.session_state[state.HISTORY_SOURCE] = "demo data (Calder Basin Power & Light)"
+            st.rerun()
+
+history = state.history()
+fitted = state.model()
+if fitted is not None and fitted.history.fingerprint != history.fingerprint:
+    st.warning(
+        "The fitted model was made from a different history. Fit again on the Model page to use "
+        "this one.",
+        icon=":material/sync_problem:",
+    )
+
+# --------------------------------------------------------------------------------------------
+# Validation report
+# --------------------------------------------------------------------------------------------
+st.subheader("Checks on the data")
+report = history.report
+issues = report.to_frame()
+if report.ok and not len(report.warnings):
+    st.success("No problems found.", icon=":material/check_circle:")
+elif report.ok:
+    st.warning(
+        f"{len(report.warnings)} warning(s): the data can be used, but look at the changed rows.",
+        icon=":material/warning:",
+    )
+for issue in report.warnings:
+    st.markdown(f"- {issue.message} {issue.fix}".strip())
+if len(issues):
+    with st.expander(f"Every note on the data ({len(issues)})", expanded=not report.ok):
+        st.dataframe(issues, hide_index=True, width="stretch")
+
+frame = history.frame
+changed = frame[frame["temperature_filled"] | frame["demand"].isna()]
+if len(changed):
+    with st.expander(f"Rows changed or missing ({len(changed)})", expanded=False):
+        shown = changed.assign(
+            temperature=np.round(state.to_display(changed["temperature_c"].to_numpy()), 1)
+        )[["demand", "temperature", "temperature_filled"]]
+        shown = shown.rename(
+            columns={
+                "demand": "demand, MW (blank = missing)",
+                "temperature": f"temperature, {state.unit_symbol()}",
+                "temperature_filled": "temperature filled in",
+            }
+        )
+        st.dataframe(shown, width="stretch")
+
+# --------------------------------------------------------------------------------------------
+# Calendar (day types)
+# --------------------------------------------------------------------------------------------
+spec: CalendarSpec = st.session_state[state.CALENDAR]
+with st.expander("Calendar: public holidays and special periods", expanded=False):
+    left, middle, right = st.columns(3)
+    country = left.text_input("Country code for public holidays", value=spec.country, key="cal_c")
+    subdivision = middle.text_input(
+        "State or province code (optional)", value=spec.subdivision or "", key="cal_sub"
+    )
+    scheme = right.radio(
+        "Day types",
+        ["detailed", "simple"],
+        index=0 if spec.scheme == "detailed" else 1,
+        format_func=lambda s: {
+            "detailed": "Monday, midweek, Friday, Saturday, Sunday, holiday",
+            "simple": "working / non-working",
+        }[s],
+        key="cal_scheme",
+    )
+    override_text = st.text_area(
+        "Special periods, one a line: first date[..last date] name [label]",
+        value="\n".join(
+            f"{o.start}..{o.end} {o.day_type} {o.label}".strip()
+            if o.start != o.end
+            else f"{o.start} {o.day_type} {o.label}".strip()
+            for o in spec.overrides
+        ),
+        placeholder="2025-12-24..2026-01-01 year_end Year-end low load\n2026-07-03 bridge",
+        key="cal_overrides",
+        help="A plant shutdown, a year-end period or a bridge day becomes its own day type. "
+        "Give the past dates too, so that the model can learn the effect.",
+    )
+    if st.button("Use these calendar settings"):
+        try:
+            new_spec = CalendarSpec(
+                country=country.strip() or "US",
+                subdivision=subdivision.strip() or None,
+                scheme=scheme,
+                overrides=overrides_from_text(override_text),
+            )
+        except LoadcoreError as exc:
+            state.show_error(exc, "The calendar was not changed")
+        else:
+            st.session_state[state.CALENDAR] = new_spec
+            st.success("Calendar updated. Fit the model again to use it.")
+            spec = new_spec
+
+# --------------------------------------------------------------------------------------------
+# Charts
+# --------------------------------------------------------------------------------------------
+types = day_types(frame.index, spec)
+st.subheader("Demand and temperature over time")
+st.plotly_chart(
+    charts.history_figure(frame, types, to_unit=state.to_display, unit=state.unit_symbol()),
+    key="history_chart",
+)
+
+st.subheader("Demand against temperature")
+curve_c = curve_mw = None
+range_c = history.temperature_range_c
+if fitted is not None and fitted.history.fingerprint == history.fingerprint:
+    low, high = fitted.temperature_range_c
+    curve_c = np.linspace(low, high, 121)
+    curve_mw = fitted.response_curve(curve_c)["demand"].to_numpy(dtype=float)
+    range_c = fitted.temperature_range_c
+    st.caption(
+        "The line is the fitted response for the reference day type, at the end of the history; "
+        "the shaded band is the temperature range the model was fitted on."
+    )
+else:
+    st.caption("Fit a model to draw the fitted response. The band is the range in the data.")
+st.plotly_chart(
+    charts.response_figure(
+        frame,
+        types,
+        curve_c=curve_c,
+        curve_mw=curve_mw,
+        range_c=range_c,
+        to_unit=state.to_display,
+        unit=state.unit_symbol(),
+    ),
+    key="response_chart",
+)
+counts = pd.Series(types).value_counts().rename_axis("day type").rename("days")
+st.dataframe(counts.to_frame().T, width="stretch")
+
+state.footer()

@@ -1,0 +1,254 @@
+"""Step 2: fit the demand model (settings, progress, results, diagnostics, save and load)."""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.export import check_upload_size
+from loadcore.model import FitSettings, fit, load_model
+from loadcore.terms import TermSpec
+
+st.title("Model")
+history = state.history()
+current: FitSettings = st.session_state[state.FIT_SETTINGS]
+calendar = st.session_state[state.CALENDAR]
+st.caption(
+    "Daily demand is explained by temperature, day type and (optionally) an annual cycle and "
+    "growth; what is left over follows a time-series error model (ARIMA with weekly terms) chosen "
+    "by the lowest AICc."
+)
+
+# --------------------------------------------------------------------------------------------
+# Settings
+# --------------------------------------------------------------------------------------------
+with st.form("fit_form", border=True):
+    st.markdown("**Settings**")
+    a, b, c = st.columns(3)
+    search = a.radio(
+        "Search for the error model",
+        ["quick", "thorough"],
+        index=0 if current.search == "quick" else 1,
+        format_func=lambda s: {
+            "quick": "quick (step by step from a few starting points)",
+            "thorough": "thorough (every combination within the limits)",
+        }[s],
+        key="fit_search",
+    )
+    use_log = b.toggle(
+        "Model the logarithm of demand",
+        value=current.log,
+        key="fit_log",
+        help="Effects then act as percentages of demand, which suits a growing system.",
+    )
+    scheme = c.radio(
+        "Day types",
+        ["detailed", "simple"],
+        index=0 if calendar.scheme == "detailed" else 1,
+        format_func=lambda s: {"detailed": "detailed (weekdays apart)", "simple": "simple"}[s],
+        key="fit_scheme",
+    )
+    a, b, c = st.columns(3)
+    response = a.radio(
+        "Temperature response",
+        ["quadratic", "degree_days"],
+        index=0 if current.terms.response == "quadratic" else 1,
+        format_func=lambda r: {
+            "quadratic": "smooth curve (quadratic)",
+            "degree_days": "heating and cooling degree days",
+        }[r],
+        key="fit_response",
+    )
+    harmonics = b.number_input(
+        "Annual cycle terms (0 = none)",
+        0,
+        6,
+        int(current.terms.annual_harmonics),
+        key="fit_harmonics",
+    )
+    trend = c.toggle("Include growth over the years", value=current.terms.trend, key="fit_trend")
+    a, b, c = st.columns(3)
+    unit = state.unit_symbol()
+    ref = a.number_input(
+        f"Curve centre, {unit}",
+        value=float(np.round(state.to_display(current.terms.reference_temp_c), 1)),
+        step=0.5,
+        key="fit_ref",
+        help="For the smooth curve: the temperature its slope and bend are measured from.",
+    )
+    heat = b.number_input(
+        f"Heating base, {unit}",
+        value=float(np.round(state.to_display(current.terms.heating_base_c), 1)),
+        step=0.5,
+        key="fit_hdd",
+    )
+    cool = c.number_input(
+        f"Cooling base, {unit}",
+        value=float(np.round(state.to_display(current.terms.cooling_base_c), 1)),
+        step=0.5,
+        key="fit_cdd",
+    )
+    with st.expander("Search limits"):
+        a, b, c, d, e = st.columns(5)
+        max_p = a.number_input("AR up to", 0, 10, current.max_p, key="fit_p")
+        max_q = b.number_input("MA up to", 0, 10, current.max_q, key="fit_q")
+        max_pq = c.number_input("AR + MA up to", 0, 10, current.max_pq, key="fit_pq")
+        max_big_p = d.number_input("weekly AR up to", 0, 10, current.max_P, key="fit_bp")
+        max_big_q = e.number_input("weekly MA up to", 0, 10, current.max_Q, key="fit_bq")
+    go = st.form_submit_button("Fit the model", type="primary")
+
+if go:
+    try:
+        terms = TermSpec(
+            response=response,
+            reference_temp_c=float(state.from_display(ref)),
+            heating_base_c=float(state.from_display(heat)),
+            cooling_base_c=float(state.from_display(cool)),
+            annual_harmonics=int(harmonics),
+            trend=bool(trend),
+        )
+        settings = FitSettings(
+            search=search,
+            max_p=int(max_p),
+            max_q=int(max_q),
+            max_pq=int(max_pq),
+            max_P=int(max_big_p),
+            max_Q=int(max_big_q),
+            log=bool(use_log),
+            terms=terms,
+            calendar=dataclasses.replace(calendar, scheme=scheme),
+        )
+    except LoadcoreError as exc:
+        state.show_error(exc, "These settings cannot be used")
+    else:
+        bar = st.progress(0.0, text="Looking for the error model...")
+
+        def _progress(done: int, total: int, text: str) -> None:
+            bar.progress(min(done / max(total, 1), 1.0), text=f"{done} of {total} done: {text}")
+
+        try:
+            fitted = fit(history, settings, progress=_progress)
+        except LoadcoreError as exc:
+            bar.empty()
+            state.show_error(exc, "The model could not be fitted")
+            st.caption("The model in use (if any) is unchanged.")
+        else:
+            bar.progress(1.0, text=f"Done: {fitted.candidates_evaluated} candidates evaluated.")
+            st.session_state[state.MODEL] = fitted
+            st.session_state[state.FIT_SETTINGS] = settings
+            st.session_state[state.CALENDAR] = settings.calendar
+
+# --------------------------------------------------------------------------------------------
+# Load a saved model
+# --------------------------------------------------------------------------------------------
+with st.expander("Upload a saved model (JSON)"):
+    upload = st.file_uploader("Model file", type=["json"], key="model_upload")
+    if upload is not None and st.button("Use this model", key="model_use"):
+        data = upload.getvalue()
+        try:
+            check_upload_size(len(data))
+            loaded = load_model(data)
+        except LoadcoreError as exc:
+            state.show_error(exc, f"{upload.name} was not used")
+        else:
+            st.session_state[state.MODEL] = loaded
+            st.session_state[state.FIT_SETTINGS] = loaded.settings
+            st.session_state[state.CALENDAR] = loaded.settings.calendar
+            if loaded.history.fingerprint != history.fingerprint:
+                st.session_state[state.HISTORY] = loaded.history
+                st.session_state[state.HISTORY_SOURCE] = f"the history saved in {upload.name}"
+            st.success(f"Using the model from {upload.name}.")
+
+fitted = state.model()
+if fitted is None:
+    st.info("No model yet: choose the settings and press **Fit the model**.")
+    state.footer()
+    st.stop()
+
+# --------------------------------------------------------------------------------------------
+# Results
+# --------------------------------------------------------------------------------------------
+if fitted.history.fingerprint != history.fingerprint:
+    st.warning(
+        "This model was fitted on a different history from the one now in use. Fit again to use "
+        "the new history.",
+        icon=":material/sync_problem:",
+    )
+st.subheader("The fitted model")
+st.markdown(fitted.describe_errors())
+a, b, c = st.columns(3)
+a.metric("AICc", f"{fitted.aicc:,.1f}", help="Lower is better, for the same data and settings.")
+b.metric("Candidates evaluated", f"{fitted.candidates_evaluated}")
+c.metric("Estimation converged", "yes" if fitted.converged else "no")
+if not fitted.converged:
+    st.warning("The estimation did not fully converge; try the thorough search or other settings.")
+lowest = fitted.lowest_demand_temperature_c()
+st.markdown(
+    fitted.describe_lowest_demand()
+    + (f" ({state.fmt_temp(lowest)})" if lowest is not None and state.temp_unit() == "F" else "")
+)
+
+st.markdown("**What each term means**")
+st.dataframe(
+    fitted.coefficient_table(),
+    hide_index=True,
+    width="stretch",
+    column_config={
+        "estimate": st.column_config.NumberColumn(format="%.5f"),
+        "std_error": st.column_config.NumberColumn("standard error", format="%.5f"),
+    },
+)
+
+st.subheader("Checks on what the model leaves unexplained")
+diag = fitted.diagnostics()
+if diag.ljung_box_pvalue >= 0.05:
+    st.success(diag.verdict, icon=":material/check_circle:")
+else:
+    st.warning(diag.verdict, icon=":material/warning:")
+    st.markdown(f"**What to try:** {diag.advice}")
+resid = diag.residuals.rename("residual").rename_axis("date").reset_index()
+scale = "log demand" if fitted.settings.log else f"{fitted.demand_unit}"
+left, right = st.columns(2)
+left.plotly_chart(
+    charts.lines_figure(
+        resid, "date", ["residual"], x_title="date", y_title=f"one-day-ahead error, {scale}"
+    ),
+    key="diag_resid",
+)
+acf = np.asarray(diag.acf, dtype=float)  # lags 1, 2, ... as loadcore returns them
+right.plotly_chart(
+    charts.bars_figure(
+        np.arange(1, len(acf) + 1),
+        acf,
+        x_title="lag, days",
+        y_title="autocorrelation",
+        hlines={"bound": diag.acf_bound, "": -diag.acf_bound},
+    ),
+    key="diag_acf",
+)
+st.plotly_chart(
+    charts.histogram_figure(
+        resid["residual"].to_numpy(dtype=float),
+        x_title=f"one-day-ahead error, {scale}",
+        y_title="days",
+    ),
+    key="diag_hist",
+)
+
+with st.expander(f"Every candidate error model ({len(fitted.candidates)})"):
+    st.dataframe(fitted.candidates, hide_index=True, width="stretch")
+
+st.download_button(
+    "Download the fitted model (JSON)",
+    data=fitted.to_json().encode("utf-8"),
+    file_name="loadcore_model.json",
+    mime="application/json",
+    icon=":material/download:",
+    key="model_download",
+    on_click="ignore",
+)
+state.footer()

@@ -1,0 +1,191 @@
+"""Saved scenarios: the team's shared library of scenarios with the forecasts made for them."""
+
+from __future__ import annotations
+
+import pandas as pd
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.export import comparison_summary, meeting_brief_html
+from loadcore.library import (
+    ScenarioLibrary,
+    default_library_path,
+    entry_from_forecast,
+    is_current,
+)
+from loadcore.scenario import make_scenario
+
+st.title("Saved scenarios")
+
+
+@st.cache_resource(show_spinner=False)
+def _library(path: str) -> ScenarioLibrary:
+    return ScenarioLibrary(path)
+
+
+path = str(default_library_path())
+ok, library = state.attempt(lambda: _library(path), "The scenario library could not be opened")
+if not ok:
+    st.caption("Set the environment variable LOADCORE_LIBRARY to a writable file and restart.")
+    state.footer()
+    st.stop()
+st.caption(f"Library file: `{path}`. Everyone using this file sees the same saved scenarios.")
+fitted = state.model()
+
+# --------------------------------------------------------------------------------------------
+# Save a scenario from the set
+# --------------------------------------------------------------------------------------------
+with st.expander("Save a scenario from the set", expanded=bool(state.scenarios())):
+    if fitted is None or not state.scenarios():
+        st.info("Fit a model and add a scenario to the set first.")
+    else:
+        a, b = st.columns(2)
+        pick = a.selectbox("Scenario", list(state.scenarios()), key="lib_pick")
+        save_name = b.text_input("Save as", value=pick, key="lib_save_name", max_chars=120)
+        a, b = st.columns([3, 1])
+        note = a.text_input("Note", value="", key="lib_note", max_chars=500)
+        author = b.text_input("Your name", value="", key="lib_author", max_chars=80)
+        if st.button("Save", type="primary", key="lib_save"):
+            scenario = state.scenarios()[pick]
+            try:
+                fc = state.forecast(fitted, scenario)
+                entry = entry_from_forecast(
+                    fc, scenario=scenario, model=fitted, name=save_name, note=note, author=author
+                )
+                saved = library.save(entry)
+            except LoadcoreError as exc:
+                state.show_error(exc, "Not saved")
+            else:
+                st.success(f"Saved '{saved.name}' (version {saved.version}).")
+
+# --------------------------------------------------------------------------------------------
+# List and search
+# --------------------------------------------------------------------------------------------
+st.subheader("In the library")
+search = st.text_input("Search names, notes and authors", value="", key="lib_search")
+ok, listing = state.attempt(lambda: library.list(search or None))
+if not ok:
+    state.footer()
+    st.stop()
+if not listing:
+    st.info("Nothing saved yet." if not search else "No saved scenario matches the search.")
+    state.footer()
+    st.stop()
+table = pd.DataFrame([item.to_dict() for item in listing])
+st.dataframe(
+    table[["name", "note", "author", "first_date", "last_date", "days", "version", "changed_utc"]],
+    hide_index=True,
+    width="stretch",
+)
+
+# --------------------------------------------------------------------------------------------
+# One saved scenario: open, re-forecast, rename, duplicate, delete
+# --------------------------------------------------------------------------------------------
+names = [item.name for item in listing]
+chosen = st.selectbox("Saved scenario", names, key="lib_chosen")
+ok, saved = state.attempt(lambda: library.get(chosen))
+if not ok:
+    state.footer()
+    st.stop()
+
+if fitted is not None and not is_current(saved, fitted):
+    st.warning(
+        "This forecast was made with a different model (or other settings) from the one in use.",
+        icon=":material/update:",
+    )
+    if st.button("Re-forecast it with the current model", key="lib_reforecast"):
+        try:
+            scenario = make_scenario(
+                saved.name,
+                saved.scenario().path(),
+                saved.scenario().day_types,
+                model_end=fitted.history_end,
+            )
+            fc = state.forecast(fitted, scenario)
+            entry = entry_from_forecast(
+                fc, scenario=scenario, model=fitted, note=saved.note, author=saved.author
+            )
+            library.update(saved.name, expected_version=saved.version, entry=entry)
+        except LoadcoreError as exc:
+            state.show_error(exc, "Not re-forecast")
+        else:
+            st.rerun()
+
+a, b, c, d = st.columns(4)
+if a.button("Open in the set", key="lib_open", disabled=fitted is None):
+    try:
+        scenario = make_scenario(
+            saved.name,
+            saved.scenario().path(),
+            saved.scenario().day_types,
+            model_end=fitted.history_end,
+        )
+    except LoadcoreError as exc:
+        state.show_error(exc, "It does not fit the model in use")
+    else:
+        state.scenarios()[scenario.name] = scenario
+        st.success(f"'{scenario.name}' is in the set; see the Compare page.")
+with b.popover("Rename"):
+    new_name = st.text_input("New name", value=saved.name, key="lib_new_name")
+    if st.button("Rename", key="lib_rename"):
+        if state.attempt(lambda: library.rename(saved.name, new_name, saved.version))[0]:
+            st.rerun()
+with c.popover("Duplicate"):
+    copy_name = st.text_input("Name of the copy", value=f"{saved.name} copy", key="lib_copy")
+    if st.button("Duplicate", key="lib_duplicate"):
+        if state.attempt(lambda: library.duplicate(saved.name, copy_name))[0]:
+            st.rerun()
+with d.popover("Delete"):
+    sure = st.checkbox(f"Yes, delete '{saved.name}'", key="lib_sure")
+    if st.button("Delete", key="lib_delete", disabled=not sure):
+        if state.attempt(lambda: library.delete(saved.name, saved.version))[0]:
+            st.rerun()
+
+st.caption(
+    f"By {saved.author or 'unknown'}, saved {saved.created_utc}, changed {saved.changed_utc} "
+    f"(version {saved.version}). {saved.note}"
+)
+
+# --------------------------------------------------------------------------------------------
+# Compare saved scenarios and download a meeting brief
+# --------------------------------------------------------------------------------------------
+st.subheader("Compare saved scenarios")
+picked = st.multiselect("Saved scenarios to compare", names, default=[chosen], key="lib_cmp")
+if picked:
+    ok, entries = state.attempt(lambda: [library.get(n) for n in picked])
+    if ok:
+        stored = [e.to_forecast() for e in entries]
+        tail = entries[0].history_tail()["demand"]
+        st.plotly_chart(charts.comparison_figure(tail, stored), key="lib_chart")
+        base = st.selectbox("Base scenario", picked, key="lib_base")
+        ok, summary = state.attempt(lambda: comparison_summary(stored, base))
+        if ok:
+            st.dataframe(summary.drop(columns=["sum_unit"]), hide_index=True, width="stretch")
+        period = entries[0].context.get("history_period") or []
+        period_text = f"History {period[0]} to {period[1]}" if len(period) == 2 else ""
+        ok, html = state.attempt(
+            lambda: meeting_brief_html(
+                stored,
+                history_tail=entries[0].history_tail(),
+                model_summary=entries[0].context.get("model_summary", {}),
+                base_name=base,
+                title="Calder Basin demand scenarios"
+                if st.session_state[state.HISTORY_SOURCE].startswith("demo")
+                else "Demand scenarios",
+                period_text=period_text,
+                temp_unit=state.temp_unit(),
+            )
+        )
+        if ok:
+            st.download_button(
+                "Download the meeting brief (HTML, opens offline)",
+                data=html.encode("utf-8"),
+                file_name="meeting_brief.html",
+                mime="text/html",
+                icon=":material/download:",
+                key="lib_brief",
+                on_click="ignore",
+            )
+
+state.footer()

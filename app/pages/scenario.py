@@ -1,0 +1,329 @@
+"""Step 3: build a scenario (temperature path and day types) and add it to the session's set."""
+
+from __future__ import annotations
+
+import hashlib
+
+import numpy as np
+import pandas as pd
+import streamlit as st
+
+from app import charts, state
+from loadcore.errors import LoadcoreError
+from loadcore.export import check_upload_size
+from loadcore.scenario import (
+    MAX_DAYS,
+    Scenario,
+    cold_snap,
+    constant_path,
+    copy_period,
+    heat_wave,
+    make_scenario,
+    read_scenario_csv,
+    seasonal_normal_path,
+    shift_path,
+)
+
+st.title("Build a scenario")
+fitted = state.need_model()
+unit = state.unit_symbol()
+start = fitted.history_end + pd.Timedelta(days=1)
+low_c, high_c = (float(v) for v in fitted.temperature_range_c)
+
+st.markdown(
+    f"The scenario starts on **{start.date():%A %d %B %Y}**, the day after the history ends. "
+    f"The model was fitted on daily highs from {state.fmt_temp(low_c)} to "
+    f"{state.fmt_temp(high_c)}; days outside that range are flagged."
+)
+
+left, right = st.columns([2, 1])
+name = left.text_input("Scenario name", value="Heat wave", key="scn_name", max_chars=80)
+horizon = right.number_input(
+    f"Days (1 to {MAX_DAYS})",
+    min_value=1,
+    max_value=366,
+    value=14,
+    step=1,
+    key="scn_days",
+    help=f"Forecasts reach at most {MAX_DAYS} days ahead.",
+)
+source = st.radio(
+    "Start from",
+    ["tools", "set", "file"],
+    format_func=lambda s: {
+        "tools": "the path tools",
+        "set": "a scenario in the set",
+        "file": "a scenario file (CSV or a saved definition)",
+    }[s],
+    horizontal=True,
+    key="scn_source",
+)
+
+
+def _days_ok(days: int) -> bool:
+    """The horizon check is loadcore's: make_scenario raises with the allowed range."""
+    try:
+        make_scenario("check", constant_path(start, int(days), 0.0), max_days=MAX_DAYS)
+    except LoadcoreError as exc:
+        state.show_error(exc)
+        return False
+    return True
+
+
+def _from_tools(days: int) -> pd.Series | None:
+    """The temperature path (°C) from the path tools, or None after an inline error."""
+    history = fitted.history
+    base_kind = st.selectbox(
+        "Base path",
+        ["normal", "constant", "copy"],
+        format_func=lambda k: {
+            "normal": "seasonal normal (average for these calendar days)",
+            "constant": "the same temperature every day",
+            "copy": "a copy of a past period",
+        }[k],
+        key="scn_base",
+    )
+    try:
+        if base_kind == "constant":
+            value = st.number_input(
+                f"Temperature, {unit}",
+                value=float(np.round(state.to_display(25.0), 1)),
+                step=0.5,
+                key="scn_const",
+            )
+            path = constant_path(start, days, float(state.from_display(value)))
+        elif base_kind == "copy":
+            default = (start - pd.DateOffset(years=1)).date()
+            first = history.start.date()
+            source_start = st.date_input(
+                "First day of the past period",
+                value=max(default, first),
+                min_value=first,
+                max_value=history.end.date(),
+                key="scn_copy_from",
+            )
+            path = copy_period(history, source_start, start, days)
+        else:
+            path = seasonal_normal_path(history, start, days)
+
+        cols = st.columns(2)
+        with cols[0].container(border=True):
+            wave = st.checkbox("Add a heat wave", value=True, key="scn_hw_on")
+            peak = st.number_input(
+                f"Peak daily high, {unit}",
+                value=float(np.round(state.to_display(41.0), 1)),
+                step=0.5,
+                key="scn_hw_peak",
+                disabled=not wave,
+            )
+            a, b, c = st.columns(3)
+            hw_len = a.number_input("Days", 1, MAX_DAYS, 6, key="scn_hw_len", disabled=not wave)
+            hw_ramp = b.number_input("Ramp days", 0, 30, 2, key="scn_hw_ramp", disabled=not wave)
+            hw_day = c.number_input("Starts on day", 1, 366, 4, key="scn_hw_day", disabled=not wave)
+        with cols[1].container(border=True):
+            snap = st.checkbox("Add a cold snap", value=False, key="scn_cs_on")
+            trough = st.number_input(
+                f"Lowest daily high, {unit}",
+                value=float(np.round(state.to_display(-8.0), 1)),
+                step=0.5,
+                key="scn_cs_low",
+                disabled=not snap,
+            )
+            a, b, c = st.columns(3)
+            cs_len = a.number_input("Days", 1, MAX_DAYS, 5, key="scn_cs_len", disabled=not snap)
+            cs_ramp = b.number_input("Ramp days", 0, 30, 1, key="scn_cs_ramp", disabled=not snap)
+            cs_day = c.number_input("Starts on day", 1, 366, 1, key="scn_cs_day", disabled=not snap)
+        shift = st.number_input(
+            f"Shift every day by ({unit}, may be negative)",
+            value=0.0,
+            step=0.5,
+            key="scn_shift",
+        )
+        if wave:
+            path = heat_wave(
+                path, float(state.from_display(peak)), int(hw_len), int(hw_ramp), int(hw_day) - 1
+            )
+        if snap:
+            path = cold_snap(
+                path, float(state.from_display(trough)), int(cs_len), int(cs_ramp), int(cs_day) - 1
+            )
+        if shift:
+            path = shift_path(path, state.delta_from_display(shift))
+    except LoadcoreError as exc:
+        state.show_error(exc, "The path tools could not build this path")
+        return None
+    return path
+
+
+def _from_set() -> Scenario | None:
+    names = list(state.scenarios())
+    if not names:
+        st.info("The set is empty. Build a scenario from the path tools first.")
+        return None
+    chosen = st.selectbox("Scenario to start from", names, key="scn_from_set")
+    return state.scenarios()[chosen]
+
+
+@st.cache_resource(max_entries=8, show_spinner=False)
+def _read_scenario_file(_data: bytes, digest: str, file_name: str, temp_unit: str, end: str):
+    if file_name.lower().endswith(".json"):
+        return Scenario.from_json(_data, model_end=end)
+    return read_scenario_csv(
+        _data, temp_unit=temp_unit, model_end=end, name=file_name.rsplit(".")[0]
+    )
+
+
+def _from_file() -> Scenario | None:
+    upload = st.file_uploader(
+        "Scenario file: a CSV with date, temperature and optional day_type columns, or a "
+        "definition (.json) downloaded from the Compare page",
+        type=["csv", "txt", "json"],
+        key="scn_upload",
+    )
+    if upload is None:
+        return None
+    data = upload.getvalue()
+    try:
+        check_upload_size(len(data))
+        return _read_scenario_file(
+            data,
+            hashlib.sha256(data).hexdigest(),
+            upload.name,
+            state.temp_unit(),
+            fitted.history_end.date().isoformat(),
+        )
+    except LoadcoreError as exc:
+        state.show_error(exc, f"{upload.name} was not used")
+        return None
+
+
+# --------------------------------------------------------------------------------------------
+# The starting point: a path (°C) and the calendar's day types
+# --------------------------------------------------------------------------------------------
+base_temps: pd.Series | None = None
+base_types: list[str] | None = None
+if source == "tools":
+    if _days_ok(horizon):
+        base_temps = _from_tools(int(horizon))
+elif source == "set":
+    picked = _from_set()
+    if picked is not None:
+        base_temps, base_types = picked.path(), list(picked.day_types or [])
+else:
+    picked = _from_file()
+    if picked is not None:
+        base_temps, base_types = picked.path(), list(picked.day_types or [])
+
+if base_temps is None:
+    state.footer()
+    st.stop()
+
+dates = pd.DatetimeIndex(base_temps.index)
+try:
+    calendar = [str(t) for t in fitted.calendar_types(dates)]
+except LoadcoreError as exc:
+    state.show_error(exc)
+    state.footer()
+    st.stop()
+given = base_types if base_types else [""] * len(dates)
+start_types = [mine or cal for mine, cal in zip(given, calendar, strict=True)]
+levels = [str(t) for t in fitted.day_type_levels]
+options = list(dict.fromkeys(levels + [t for t in start_types if t not in levels]))
+
+# --------------------------------------------------------------------------------------------
+# Free editing, day by day
+# --------------------------------------------------------------------------------------------
+st.subheader("Day by day")
+st.caption(
+    f"Change any temperature ({unit}) or day type. The calendar's day types come from the "
+    "model's holiday calendar; to use a type such as a shutdown or a bridge day, add it as a "
+    "special period on the History page (with past examples) and fit again."
+)
+table = pd.DataFrame(
+    {
+        "date": dates.date,
+        "weekday": dates.strftime("%a"),
+        "temperature": np.round(np.asarray(state.to_display(base_temps.to_numpy()), float), 1),
+        "day_type": start_types,
+    }
+)
+fingerprint = hashlib.sha256(
+    pd.util.hash_pandas_object(table, index=False).to_numpy().tobytes()
+).hexdigest()[:12]
+edited = st.data_editor(
+    table,
+    key=f"scn_editor_{fingerprint}",
+    hide_index=True,
+    num_rows="fixed",
+    disabled=["date", "weekday"],
+    column_config={
+        "date": st.column_config.DateColumn("date", format="YYYY-MM-DD"),
+        "weekday": st.column_config.TextColumn("day"),
+        "temperature": st.column_config.NumberColumn(f"daily high, {unit}", format="%.1f"),
+        "day_type": st.column_config.SelectboxColumn("day type", options=options),
+    },
+    height=min(38 + 35 * len(table), 420),
+)
+
+# --------------------------------------------------------------------------------------------
+# The scenario: loadcore checks it, then the forecast is recomputed (no refit)
+# --------------------------------------------------------------------------------------------
+temps_display = pd.to_numeric(edited["temperature"], errors="coerce").to_numpy(dtype=float)
+raw = pd.Series(edited["temperature"].to_numpy(dtype=object), index=dates, dtype=object)
+finite = np.isfinite(temps_display)
+raw[finite] = np.asarray(state.from_display(temps_display[finite]), dtype=float)
+chosen_types = [
+    "" if (t is None or str(t) == cal) else str(t)
+    for t, cal in zip(edited["day_type"].to_numpy(dtype=object), calendar, strict=True)
+]
+try:
+    scenario = make_scenario(name, raw, chosen_types, model_end=fitted.history_end)
+    fc = state.forecast(fitted, scenario)
+except LoadcoreError as exc:
+    state.show_error(exc, "This scenario cannot be forecast yet")
+    st.caption("Nothing in the set has changed.")
+    state.footer()
+    st.stop()
+
+st.plotly_chart(
+    charts.path_figure(
+        scenario.dates,
+        scenario.temperature_c,
+        fitted.temperature_range_c,
+        to_unit=state.to_display,
+        unit=unit,
+    ),
+    key="scn_path_chart",
+)
+state.heat_note(scenario.name, scenario.temperature_c)
+outside = fc.frame[fc.frame["out_of_range"].astype(bool)]
+if len(outside):
+    lines = state.out_of_range_lines([fc], fitted.temperature_range_c)
+    st.warning(
+        f"{len(outside)} day(s) lie outside the fitted temperature range; the forecast there is "
+        "an extrapolation:\n\n" + "\n".join(f"- {line}" for line in lines),
+        icon=":material/thermostat:",
+    )
+
+st.subheader("Forecast for this scenario")
+tail = fitted.history.frame["demand"].iloc[-28:]
+st.plotly_chart(charts.comparison_figure(tail, [fc]), key="scn_forecast_chart")
+for line in fc.warnings():
+    if "range" not in line.lower():
+        st.caption(line)
+if fc.note:
+    st.caption(fc.note)
+
+exists = scenario.name in state.scenarios()
+label = "Replace it in the set" if exists else "Add to the set"
+if exists:
+    st.caption(f"A scenario named '{scenario.name}' is already in the set.")
+if st.button(label, type="primary", key="scn_add"):
+    state.scenarios()[scenario.name] = scenario
+    st.success(
+        f"'{scenario.name}' is in the set ({len(state.scenarios())} scenario(s)). "
+        "See them side by side on the Compare page."
+    )
+    st.page_link("pages/compare.py", label="Compare the set", icon=":material/stacked_line_chart:")
+
+state.footer()

@@ -1,0 +1,79 @@
+"""The planner app's own colours and chart styling.
+
+One small palette used by every chart so that a scenario, a day type or a warning looks the same on
+every page. The colours are our own choice for this app (muted, readable on a projector, and distinct
+for the common forms of colour blindness when paired with the marker shapes below).
+"""
+
+from __future__ import annotations
+
+# Page and text colours (kept in step with .streamlit/config.toml).
+INK = "#1E2A2E"
+PAPER = "#FBFAF7"
+GRID = "#DCE3E0"
+MUTED = "#6C7A7D"
+
+# The demand history and the actual values.
+HISTORY = "#3B4A4F"
+TEMPERATURE = "#B5651D"
+
+# Scenario lines, in the order scenarios are added to the set.
+SCENARIOS = (
+    "#1F6F78",  # deep teal
+    "#C8553D",  # brick
+    "#5E548E",  # slate violet
+    "#7A8B3A",  # moss
+    "#2E5C8A",  # harbour blue
+    "#C99A2E",  # mustard
+    "#8E4162",  # mulberry
+    "#4F772D",  # fern
+)
+
+# Fitted temperature range band and the marker for days outside it.
+RANGE_BAND = "rgba(122, 139, 58, 0.14)"
+RANGE_EDGE = "#7A8B3A"
+OUTSIDE = "#A4243B"
+OUTSIDE_SYMBOL = "triangle-up"
+THRESHOLD = "#A4243B"
+
+# Day types (both schemes); override types not listed get EXTRA colours in turn.
+DAY_TYPES = {
+    "midweek": "#1F6F78",
+    "working": "#1F6F78",
+    "monday": "#5FA8A0",
+    "friday": "#94B447",
+    "saturday": "#E09F3E",
+    "sunday": "#B5485D",
+    "non_working": "#B5485D",
+    "holiday": "#5E548E",
+}
+EXTRA = ("#2E5C8A", "#8E4162", "#C99A2E", "#4F772D", "#6C7A7D")
+
+FONT_FAMILY = "Source Sans 3, Segoe UI, Helvetica, Arial, sans-serif"
+
+
+def scenario_colour(index: int) -> str:
+    """Colour for the scenario at position ``index`` in the set (wraps around)."""
+    return SCENARIOS[index % len(SCENARIOS)]
+
+
+def day_type_colours(day_types: list[str] | tuple[str, ...]) -> dict[str, str]:
+    """Colour for every day type in ``day_types``; unknown (override) types take EXTRA colours."""
+    colours: dict[str, str] = {}
+    extra = 0
+    for name in day_types:
+        if name in colours:
+            continue
+        if name in DAY_TYPES:
+            colours[name] = DAY_TYPES[name]
+        else:
+            colours[name] = EXTRA[extra % len(EXTRA)]
+            extra += 1
+    return colours
+
+
+def band_fill(hex_colour: str, alpha: float) -> str:
+    """The ``rgba(...)`` fill for a prediction-interval band drawn in ``hex_colour``."""
+    value = hex_colour.lstrip("#")
+    red, green, blue = (int(value[i : i + 2], 16) for i in (0, 2, 4))
+    return f"rgba({red}, {green}, {blue}, {alpha:.2f})"
