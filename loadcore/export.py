@@ -126,8 +126,8 @@ def safe_frame(frame: pd.DataFrame) -> pd.DataFrame:
     """
     if not isinstance(frame, pd.DataFrame):
         raise InputError(
-            f"expected a table to export, got {type(frame).__name__}",
-            fix="pass a pandas DataFrame",
+            f"Expected a table to export, got {type(frame).__name__}",
+            fix="Pass a pandas DataFrame",
         )
     out = frame.copy()
     for column in out.columns:
@@ -170,12 +170,12 @@ def to_csv_bytes(frame: pd.DataFrame, *, float_digits: int = 8) -> bytes:
     """
     if not isinstance(frame, pd.DataFrame):
         raise InputError(
-            f"expected a table to export, got {type(frame).__name__}",
-            fix="pass a pandas DataFrame",
+            f"Expected a table to export, got {type(frame).__name__}",
+            fix="Pass a pandas DataFrame",
         )
     if not 1 <= int(float_digits) <= 17:
         raise InputError(
-            f"float_digits must be between 1 and 17, got {float_digits}", fix="use 8 unless told"
+            f"Float_digits must be between 1 and 17, got {float_digits}", fix="Use 8 unless told"
         )
     out = frame
     if not isinstance(out.index, pd.RangeIndex) or out.index.name is not None:
@@ -226,8 +226,8 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_UPLOAD_LIMIT_MB) -
     """
     if isinstance(n_bytes, bool) or not isinstance(n_bytes, numbers.Integral) or n_bytes < 0:
         raise InputError(
-            f"the upload size must be a whole number of bytes, got {n_bytes!r}",
-            fix="pass the file's length in bytes",
+            f"The upload size must be a whole number of bytes, got {n_bytes!r}",
+            fix="Pass the file's length in bytes",
         )
     if (
         isinstance(limit_mb, bool)
@@ -236,15 +236,15 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_UPLOAD_LIMIT_MB) -
         or limit_mb <= 0
     ):
         raise InputError(
-            f"the upload limit must be a positive number of MB, got {limit_mb!r}",
-            fix=f"use the default of {DEFAULT_UPLOAD_LIMIT_MB} MB",
+            f"The upload limit must be a positive number of MB, got {limit_mb!r}",
+            fix=f"Use the default of {DEFAULT_UPLOAD_LIMIT_MB} MB",
         )
     limit_bytes = int(limit_mb * BYTES_PER_MB)
     if int(n_bytes) > limit_bytes:
         raise InputError(
-            f"the file is {int(n_bytes) / BYTES_PER_MB:.1f} MB, more than the {limit_mb:g} MB limit",
+            f"The file is {int(n_bytes) / BYTES_PER_MB:.1f} MB, more than the {limit_mb:g} MB limit",
             where="upload",
-            fix="upload daily data (one row per day) or cut the file to the years you need",
+            fix="Upload daily data (one row per day) or cut the file to the years you need",
         )
 
 
@@ -254,8 +254,9 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_UPLOAD_LIMIT_MB) -
 
 
 def _level_label(level: Any) -> str:
+    # Same spelling as loadcore.model: 80 -> "80", 97.5 -> "97_5".
     value = float(level)
-    return str(int(value)) if value.is_integer() else f"{value:g}"
+    return str(int(value)) if value.is_integer() else str(value).replace(".", "_")
 
 
 def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
@@ -264,9 +265,9 @@ def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
     frame = getattr(forecast, "frame", None)
     if not isinstance(frame, pd.DataFrame):
         raise InputError(
-            "this is not a forecast: it has no table of results",
+            "This is not a forecast: it has no table of results",
             where=f"forecast {position + 1}",
-            fix="pass the forecasts made by the model or loaded from the scenario library",
+            fix="Pass the forecasts made by the model or loaded from the scenario library",
         )
     if "date" not in frame.columns:
         if frame.index.name == "date" or isinstance(frame.index, pd.DatetimeIndex):
@@ -278,9 +279,9 @@ def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
     missing = [c for c in needed if c not in frame.columns]
     if missing:
         raise InputError(
-            f"the forecast table lacks the column(s) {', '.join(missing)}",
+            f"The forecast table lacks the column(s) {', '.join(missing)}",
             where=f"scenario {name!r}" if name else f"forecast {position + 1}",
-            fix="re-run the forecast with this version of loadcore",
+            fix="Re-run the forecast with this version of loadcore",
         )
     frame = frame.copy()
     frame["date"] = pd.to_datetime(frame["date"])
@@ -295,8 +296,8 @@ def _levels(forecast: Any) -> tuple[float, ...]:
         return tuple(sorted(float(lv) for lv in levels))
     except (TypeError, ValueError) as exc:
         raise InputError(
-            f"the forecast's interval levels are not numbers: {levels!r}",
-            fix="use levels such as (80, 95)",
+            f"The forecast's interval levels are not numbers: {levels!r}",
+            fix="Use levels such as (80, 95)",
         ) from exc
 
 
@@ -304,7 +305,7 @@ def _names(forecasts: Sequence[Any]) -> list[str]:
     if isinstance(forecasts, (str, bytes)) or not isinstance(forecasts, Sequence):
         forecasts = [forecasts]
     if len(forecasts) == 0:
-        raise InputError("there are no forecasts to export", fix="forecast at least one scenario")
+        raise InputError("There are no forecasts to export", fix="Forecast at least one scenario")
     names = []
     for i, fc in enumerate(forecasts):
         name = getattr(fc, "scenario_name", None)
@@ -313,8 +314,8 @@ def _names(forecasts: Sequence[Any]) -> list[str]:
     for name in names:
         if name in seen:
             raise InputError(
-                f"two forecasts share the scenario name {name!r}",
-                fix="give every scenario its own name before comparing or exporting",
+                f"Two forecasts share the scenario name {name!r}",
+                fix="Give every scenario its own name before comparing or exporting",
             )
         seen.add(name)
     return names
@@ -335,7 +336,7 @@ def _check_unit(temp_unit: str) -> str:
     unit = str(temp_unit).strip().upper().lstrip("°")
     if unit not in ("C", "F"):
         raise InputError(
-            f"unknown temperature unit {temp_unit!r}",
+            f"Unknown temperature unit {temp_unit!r}",
             fix='use "C" for Celsius or "F" for Fahrenheit',
         )
     return unit
@@ -428,15 +429,15 @@ def comparison_summary(
     kind = str(demand_kind).strip().lower()
     if kind not in ("peak", "total"):
         raise InputError(
-            f"unknown kind of daily demand {demand_kind!r}",
+            f"Unknown kind of daily demand {demand_kind!r}",
             fix='use "peak" (daily peak demand) or "total" (daily total)',
         )
     items = _as_list(forecasts)
     names = _names(items)
     if base_name not in names:
         raise InputError(
-            f"the base scenario {base_name!r} is not among the forecasts",
-            fix=f"choose one of: {', '.join(repr(n) for n in names)}",
+            f"The base scenario {base_name!r} is not among the forecasts",
+            fix=f"Choose one of: {', '.join(repr(n) for n in names)}",
         )
     unit = str(demand_unit).strip() or "MW"
     if kind == "peak":
@@ -451,9 +452,9 @@ def comparison_summary(
         means = frame["mean"].astype(float)
         if means.notna().sum() == 0:
             raise InputError(
-                "the forecast has no demand values",
+                "The forecast has no demand values",
                 where=f"scenario {name!r}",
-                fix="re-run the forecast; check the scenario temperatures are numbers",
+                fix="Re-run the forecast; check the scenario temperatures are numbers",
             )
         peak_pos = int(np.nanargmax(means.to_numpy()))
         rows.append(
@@ -617,8 +618,8 @@ def _history_series(history_tail: pd.DataFrame | None) -> pd.Series:
         return series
     if not isinstance(history_tail, pd.DataFrame):
         raise InputError(
-            f"the history tail must be a table, got {type(history_tail).__name__}",
-            fix="pass the last weeks of History.frame",
+            f"The history tail must be a table, got {type(history_tail).__name__}",
+            fix="Pass the last weeks of History.frame",
         )
     frame = history_tail
     if "date" in frame.columns:
@@ -626,8 +627,8 @@ def _history_series(history_tail: pd.DataFrame | None) -> pd.Series:
     column = next((c for c in ("demand", "demand_mw") if c in frame.columns), None)
     if column is None:
         raise InputError(
-            "the history tail has no demand column",
-            fix="pass a table with a 'demand' column on a date index",
+            "The history tail has no demand column",
+            fix="Pass a table with a 'demand' column on a date index",
         )
     series = pd.to_numeric(frame[column], errors="coerce").astype(float)
     series.index = pd.to_datetime(series.index)
@@ -921,8 +922,8 @@ def meeting_brief_html(
 
     if not isinstance(model_summary, Mapping):
         raise InputError(
-            f"the model summary must be a mapping of labels to values, got {type(model_summary).__name__}",
-            fix="pass loadcore.export.summarise_model(model)",
+            f"The model summary must be a mapping of labels to values, got {type(model_summary).__name__}",
+            fix="Pass loadcore.export.summarise_model(model)",
         )
     model_rows = [[str(k), _summary_value(v)] for k, v in model_summary.items()]
     model_html = (
