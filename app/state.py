@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import os
 from collections.abc import Callable, Mapping
 from pathlib import Path
 from typing import Any
@@ -23,6 +24,7 @@ from loadcore.errors import HistoryError, LoadcoreError
 REPO_ROOT = Path(__file__).resolve().parent.parent
 DEMO_HISTORY = REPO_ROOT / "demo_data" / "history.csv"
 DEMO_MODEL = REPO_ROOT / "demo_data" / "demo_model.json"
+HISTORY_ENV = "LOADCORE_HISTORY"
 
 # Session-state keys (see app/main.py for what each holds).
 HISTORY = "history"
@@ -86,18 +88,44 @@ def demo_model(history_fingerprint: str):
     return model
 
 
+@st.cache_resource(show_spinner="Reading the history file...")
+def file_history(path: str):
+    """The history file named by the LOADCORE_HISTORY environment variable (``loadcore app
+    --history FILE``), read with the default settings."""
+    from loadcore.history import read_history
+
+    return read_history(path)
+
+
+DEMO_SOURCE = "demo data (Calder Basin Power & Light)"
+
+
 def init_state() -> None:
-    """Fill in the session's defaults: the demo history, its calendar, and the demo model."""
+    """Fill in the session's defaults: the demo history (or the file from ``loadcore app
+    --history``), its calendar, and the pre-fitted demo model when it matches."""
     state = st.session_state
     if HISTORY not in state:
-        history = demo_history()
+        chosen = os.environ.get(HISTORY_ENV, "").strip()
+        history = None
+        if chosen:
+            try:
+                history = file_history(chosen)
+                state[HISTORY_SOURCE] = f"file {Path(chosen).name}"
+            except LoadcoreError as exc:
+                show_error(exc, f"{chosen} could not be used; the demo data is loaded instead")
+        if history is None:
+            history = demo_history()
+            state[HISTORY_SOURCE] = DEMO_SOURCE
         state[HISTORY] = history
-        state[HISTORY_SOURCE] = "demo data (Calder Basin Power & Light)"
-        model = demo_model(history.fingerprint)
-        if model is not None and MODEL not in state:
-            state[MODEL] = model
-            state[FIT_SETTINGS] = model.settings
-            state[CALENDAR] = model.settings.calendar
+        if MODEL not in state:
+            model = demo_model(history.fingerprint)
+            if model is not None:
+                state[MODEL] = model
+    fitted = state.get(MODEL)
+    if fitted is not None:
+        state.setdefault(FIT_SETTINGS, fitted.settings)
+        state.setdefault(CALENDAR, fitted.settings.calendar)
+    state.setdefault(HISTORY_SOURCE, DEMO_SOURCE)
     if CALENDAR not in state:
         state[CALENDAR] = CalendarSpec()
     if FIT_SETTINGS not in state:

@@ -8,12 +8,11 @@ from app import charts, state
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_summary, forecast_frame, to_csv_bytes
 
-fitted = state.need_model() if not st.session_state.get(state.MEETING) else state.model()
-if fitted is None:
-    st.session_state[state.MEETING] = False
-    fitted = state.need_model()
-forecasts = state.forecasts_for_set(fitted)
 meeting = bool(st.session_state.get(state.MEETING))
+if not meeting:
+    st.title("Compare")
+fitted = state.need_model()
+forecasts = state.forecasts_for_set(fitted)
 
 
 def _leave_meeting() -> None:
@@ -21,7 +20,6 @@ def _leave_meeting() -> None:
 
 
 if not forecasts:
-    st.title("Compare")
     st.info("The set is empty. Build a scenario and add it to the set first.")
     st.page_link("pages/scenario.py", label="Build a scenario", icon=":material/thermostat:")
     if meeting:
@@ -74,7 +72,6 @@ if meeting:
     state.footer()
     st.stop()
 
-st.title("Compare")
 left, middle, right = st.columns([2, 2, 1])
 shown = left.multiselect("Scenarios on the chart", names, default=names, key="cmp_shown")
 base_name = middle.selectbox("Compare against (base scenario)", names, key="cmp_base")

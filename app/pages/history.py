@@ -96,10 +96,10 @@ with st.expander("Upload a history file", expanded=False):
             st.session_state[state.HISTORY_SOURCE] = f"uploaded file {upload.name}"
             st.success(f"Using {upload.name}: {new.start.date()} to {new.end.date()}.")
             st.rerun()
-    if st.session_state[state.HISTORY_SOURCE] != "demo data (Calder Basin Power & Light)":
+    if st.session_state[state.HISTORY_SOURCE] != state.DEMO_SOURCE:
         if st.button("Go back to the demo data"):
             st.session_state[state.HISTORY] = state.demo_history()
-            st.session_state[state.HISTORY_SOURCE] = "demo data (Calder Basin Power & Light)"
+            st.session_state[state.HISTORY_SOURCE] = state.DEMO_SOURCE
             st.rerun()
 
 history = state.history()

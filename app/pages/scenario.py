@@ -243,7 +243,7 @@ table = pd.DataFrame(
     {
         "date": dates.date,
         "weekday": dates.strftime("%a"),
-        "temperature": np.round(np.asarray(state.to_display(base_temps.to_numpy()), float), 1),
+        "temperature": np.asarray(state.to_display(base_temps.to_numpy()), float),
         "day_type": start_types,
     }
 )

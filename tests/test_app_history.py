@@ -1,0 +1,114 @@
+"""AppTest of the History page: demo data by default, uploads, the report, the calendar."""
+
+from __future__ import annotations
+
+import pandas as pd
+import pytest
+from test_app_support import (
+    DEMO_CSV,
+    assert_no_exception,
+    demo_history,
+    new_app,
+    texts,
+)
+
+from loadcore.calendar import CalendarSpec, day_types
+from loadcore.errors import HistoryError
+from loadcore.history import HistorySettings, read_history
+
+
+def _upload(at, data: bytes, name: str = "upload.csv", **options):
+    at.file_uploader(key="history_upload").set_value((name, data, "text/csv"))
+    for key, value in options.items():
+        widget = at.get_by_key(key)
+        widget.set_value(value)
+    at.run()
+    [b for b in at.button if b.label == "Check and use this file"][0].click()
+    at.run()
+    return at
+
+
+def test_opens_on_the_demo_data_with_both_charts():
+    at = new_app(page="pages/history.py")
+    assert_no_exception(at)
+    assert [t.value for t in at.title] == ["History"]
+    history = at.session_state["history"]
+    assert history.fingerprint == demo_history().fingerprint
+    info = " ".join(texts(at, "info"))
+    assert "Calder Basin" in info
+    assert f"{history.start.date()} to {history.end.date()}" in info
+    assert len(at.get("plotly_chart")) == 2
+    # The caution is in the page footer.
+    assert any("not an operating or reliability-compliance tool" in c for c in texts(at, "caption"))
+
+
+def test_day_type_counts_come_from_the_calendar():
+    at = new_app(page="pages/history.py")
+    shown = at.dataframe[-1].value
+    expected = day_types(demo_history().frame.index, CalendarSpec()).value_counts()
+    for name, count in expected.items():
+        assert int(shown[name].iloc[0]) == int(count)
+
+
+def test_a_bad_upload_shows_the_loadcore_message_and_keeps_the_demo():
+    bad = b"date,demand,temperature\n2024-01-01,100,10\n2024-01-01,101,11\n2024-01-03,-5,abc\n"
+    at = new_app(page="pages/history.py")
+    before = at.session_state["history"].fingerprint
+    _upload(at, bad, "broken.csv")
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and errors[0].startswith("The file was not used")
+    with pytest.raises(HistoryError) as raised:  # the same loadcore message the page shows
+        read_history(bad, HistorySettings())
+    assert str(raised.value) in errors[0]
+    assert at.session_state["history"].fingerprint == before
+
+
+def test_a_fahrenheit_upload_with_other_column_names_replaces_the_history():
+    frame = pd.read_csv(DEMO_CSV).iloc[-800:]
+    frame = frame.rename(columns={"date": "day", "demand": "load_mw", "temperature": "tmax"})
+    frame["tmax"] = (frame["tmax"] * 9 / 5 + 32).round(2)
+    data = frame.to_csv(index=False, sep=";").encode()
+    at = new_app(page="pages/history.py")
+    _upload(
+        at,
+        data,
+        "fahrenheit.csv",
+        history_date_col="day",
+        history_demand_col="load_mw",
+        history_temp_col="tmax",
+        history_file_unit="F",
+    )
+    assert_no_exception(at)
+    assert not texts(at, "error")
+    used = at.session_state["history"]
+    expected = read_history(
+        data,
+        HistorySettings(date_col="day", demand_col="load_mw", temp_col="tmax", temp_unit="F"),
+    )
+    assert used.fingerprint == expected.fingerprint
+    assert "fahrenheit.csv" in at.session_state["history_source"]
+
+
+def test_a_bad_calendar_code_is_refused_and_the_calendar_kept():
+    at = new_app(page="pages/history.py")
+    at.text_input(key="cal_c").set_value("ZZ")
+    at.run()
+    [b for b in at.button if b.label == "Use these calendar settings"][0].click()
+    at.run()
+    assert_no_exception(at)
+    assert any("ZZ" in e for e in texts(at, "error"))
+    assert at.session_state["calendar_spec"] == CalendarSpec()
+
+
+def test_a_shutdown_override_becomes_its_own_day_type():
+    at = new_app(page="pages/history.py")
+    at.text_area(key="cal_overrides").set_value("2024-07-01..2024-07-05 shutdown Mill shutdown")
+    at.run()
+    [b for b in at.button if b.label == "Use these calendar settings"][0].click()
+    at.run()
+    assert_no_exception(at)
+    spec = at.session_state["calendar_spec"]
+    assert [o.day_type for o in spec.overrides] == ["shutdown"]
+    shown = at.dataframe[-1].value
+    assert int(shown["shutdown"].iloc[0]) == 5

@@ -1,0 +1,98 @@
+"""AppTest of the Model page: the fit through the app, its results, saving and loading."""
+
+from __future__ import annotations
+
+import json
+
+from test_app_support import (
+    assert_no_exception,
+    demo_history,
+    download_bytes,
+    fitted_through_app,
+    new_app,
+    recording_downloads,
+    texts,
+)
+
+from loadcore.model import FitSettings, load_model
+
+
+def test_the_fit_through_the_app_uses_the_quick_search_and_shows_progress():
+    model, seen = fitted_through_app()
+    assert not seen["exceptions"] and not seen["errors"], seen
+    assert model.settings.search == "quick"
+    assert model.settings == FitSettings()
+    assert model.history.fingerprint == demo_history().fingerprint
+    value, text = seen["progress"][-1]
+    assert value == 100  # the bar ends full (AppTest reports percent)
+    assert f"{model.candidates_evaluated} candidates" in text
+    assert seen["metrics"]["AICc"] == f"{model.aicc:,.1f}"
+
+
+def test_results_are_the_models_own_words_and_tables():
+    model, _ = fitted_through_app()
+    at = new_app(page="pages/model_fit.py", model=model)
+    assert_no_exception(at)
+    markdown = texts(at, "markdown")
+    assert model.describe_errors() in markdown
+    assert any(model.describe_lowest_demand() in m for m in markdown)
+    shown = at.dataframe[0].value
+    table = model.coefficient_table()
+    assert list(shown["term"]) == list(table["term"])
+    assert list(shown["meaning"]) == list(table["meaning"])
+    diag = model.diagnostics()
+    verdicts = texts(at, "success") + texts(at, "warning")
+    assert diag.verdict in verdicts
+    if diag.ljung_box_pvalue < 0.05:
+        assert any(diag.advice in m for m in markdown)
+    # residuals over time, ACF bars, histogram
+    assert len(at.get("plotly_chart")) == 3
+    assert len(at.dataframe[-1].value) == len(model.candidates)
+
+
+def test_model_download_and_upload_round_trip():
+    model, _ = fitted_through_app()
+    with recording_downloads():
+        at = new_app(page="pages/model_fit.py", model=model)
+        data = download_bytes(at, "model_download")
+    assert json.loads(data)  # valid JSON
+    assert data.decode() == model.to_json()
+    back = load_model(data)
+    assert back.aicc == model.aicc and back.order == model.order
+
+    at = new_app(page="pages/model_fit.py", model=None)
+    at.file_uploader(key="model_upload").set_value(("model.json", data, "application/json"))
+    at.run()
+    at.button(key="model_use").click()
+    at.run()
+    assert_no_exception(at)
+    used = at.session_state["model"]
+    assert used.fingerprint == model.fingerprint
+    assert model.describe_errors() in texts(at, "markdown")
+
+
+def test_a_broken_model_file_is_refused_and_the_model_kept():
+    model, _ = fitted_through_app()
+    at = new_app(page="pages/model_fit.py", model=model)
+    at.file_uploader(key="model_upload").set_value(("bad.json", b'{"kind": 3}', "application/json"))
+    at.run()
+    at.button(key="model_use").click()
+    at.run()
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and errors[0].startswith("bad.json was not used")
+    assert at.session_state["model"] is model
+
+
+def test_a_bad_setting_is_refused_before_fitting():
+    model, _ = fitted_through_app()
+    at = new_app(page="pages/model_fit.py", model=model)
+    at.number_input(key="fit_hdd").set_value(30.0)
+    at.number_input(key="fit_cdd").set_value(20.0)
+    at.radio(key="fit_response").set_value("degree_days")
+    [b for b in at.get("button") if getattr(b, "label", "") == "Fit the model"][0].click()
+    at.run()
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and errors[0].startswith("These settings cannot be used")
+    assert at.session_state["model"] is model

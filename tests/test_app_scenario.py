@@ -1,0 +1,140 @@
+"""AppTest of the Build-a-scenario page: path tools, free editing, checks, adding to the set."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+from test_app_support import (
+    assert_no_exception,
+    build_heat_wave_in_app,
+    demo_model,
+    heat_wave_by_loadcore,
+    heat_wave_settings,
+    new_app,
+    texts,
+)
+
+
+def _scenario_page(**kw):
+    return new_app(page="pages/scenario.py", model=demo_model(), **kw)
+
+
+def _edit(at, rows: dict) -> None:
+    """Seed the day-by-day editor's edit state (AppTest cannot type into cells)."""
+    editor = at.data_editor[0]
+    at.session_state[editor.key] = {"edited_rows": rows, "added_rows": [], "deleted_rows": []}
+    at.run()
+
+
+def test_start_date_is_the_day_after_the_history():
+    model = demo_model()
+    at = _scenario_page()
+    assert_no_exception(at)
+    start = model.history_end + pd.Timedelta(days=1)
+    assert any(f"{start.date():%A %d %B %Y}" in m for m in texts(at, "markdown"))
+
+
+def test_heat_wave_above_the_fitted_range_names_the_right_dates():
+    model = demo_model()
+    settings = heat_wave_settings(model)
+    at = _scenario_page()
+    build_heat_wave_in_app(at, settings)
+    assert_no_exception(at)
+    assert not texts(at, "error")
+
+    expected = heat_wave_by_loadcore(model, settings)
+    forecast = model.forecast(expected)
+    outside = forecast.frame.loc[forecast.frame["out_of_range"], "date"]
+    assert len(outside) >= 1
+    warning = next(w for w in texts(at, "warning") if "outside the fitted temperature range" in w)
+    for day in pd.DatetimeIndex(forecast.frame["date"]):
+        iso = day.date().isoformat()
+        assert (iso in warning) == (day in set(outside)), iso
+    # The public-safety note for days at or above 38 °C.
+    assert any("heat-related illness" in w for w in texts(at, "warning"))
+
+    [b for b in at.button if b.label == "Add to the set"][0].click()
+    at.run()
+    added = at.session_state["scenarios"]["Heat wave"]
+    assert added == expected
+
+
+def test_editing_a_day_recomputes_the_forecast_without_refitting():
+    model = demo_model()
+    settings = heat_wave_settings(model)
+    at = _scenario_page()
+    build_heat_wave_in_app(at, settings)
+    _edit(at, {0: {"temperature": 5.0}, 1: {"day_type": "holiday"}})
+    assert_no_exception(at)
+    assert not texts(at, "error")
+    [b for b in at.button if b.label == "Add to the set"][0].click()
+    at.run()
+    edited = at.session_state["scenarios"]["Heat wave"]
+    assert edited.temperature_c[0] == 5.0
+    assert edited.day_types[1] == "holiday"
+    assert at.session_state["model"] is model  # no refit
+
+
+def test_a_blank_temperature_gives_a_message_and_leaves_the_set_alone():
+    model = demo_model()
+    kept = heat_wave_by_loadcore(model, heat_wave_settings(model), name="Kept")
+    at = _scenario_page(scenarios={"Kept": kept})
+    build_heat_wave_in_app(at, heat_wave_settings(model), name="Edited")
+    _edit(at, {2: {"temperature": None}})
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    day = (model.history_end + pd.Timedelta(days=3)).date().isoformat()
+    assert errors and "blank" in errors[0] and day in errors[0]
+    assert list(at.session_state["scenarios"]) == ["Kept"]
+    assert at.session_state["scenarios"]["Kept"] == kept
+
+
+def test_a_horizon_past_90_days_is_refused_inline():
+    at = _scenario_page()
+    at.number_input(key="scn_days").set_value(120)
+    at.run()
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and "120 days" in errors[0] and "90" in errors[0]
+
+
+def test_a_scenario_file_with_text_or_unordered_dates_is_refused():
+    model = demo_model()
+    start = model.history_end + pd.Timedelta(days=1)
+    days = pd.date_range(start, periods=3)
+    text_temp = (
+        f"date,temperature\n{days[0].date()},30\n{days[1].date()},hot\n{days[2].date()},31\n"
+    )
+    unordered = f"date,temperature\n{days[1].date()},30\n{days[0].date()},31\n{days[2].date()},29\n"
+    for data, must in ((text_temp, "hot"), (unordered, days[0].date().isoformat())):
+        at = _scenario_page()
+        at.radio(key="scn_source").set_value("file")
+        at.run()
+        at.file_uploader(key="scn_upload").set_value(("bad.csv", data.encode(), "text/csv"))
+        at.run()
+        assert_no_exception(at)
+        errors = texts(at, "error")
+        assert errors and must in errors[0], errors
+
+
+def test_a_good_scenario_file_in_fahrenheit_is_read_at_the_edge():
+    model = demo_model()
+    start = model.history_end + pd.Timedelta(days=1)
+    days = pd.date_range(start, periods=5)
+    temps_f = [50.0, 59.0, 68.0, 77.0, 86.0]
+    data = "date,temperature\n" + "".join(
+        f"{d.date()},{t}\n" for d, t in zip(days, temps_f, strict=True)
+    )
+    at = _scenario_page(extra={"temp_unit": "F"})
+    at.radio(key="scn_source").set_value("file")
+    at.run()
+    at.file_uploader(key="scn_upload").set_value(("mild.csv", data.encode(), "text/csv"))
+    at.text_input(key="scn_name").set_value("Mild")
+    at.run()
+    assert_no_exception(at)
+    assert not texts(at, "error")
+    [b for b in at.button if b.label == "Add to the set"][0].click()
+    at.run()
+    added = at.session_state["scenarios"]["Mild"]
+    # 50 °F = 10 °C, 86 °F = 30 °C (common practice, no source).
+    np.testing.assert_allclose(added.temperature_c, [10.0, 15.0, 20.0, 25.0, 30.0], atol=0.06)

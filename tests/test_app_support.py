@@ -1,0 +1,230 @@
+"""Shared helpers for the planner-app tests (AppTest), plus tests of the app's own small helpers.
+
+The other ``tests/test_app_*.py`` files import the helpers from here. The demo model is fitted once
+per test process, through the app's Model page with the quick search, and reused by every test.
+"""
+
+from __future__ import annotations
+
+import functools
+import os
+import sys
+from collections.abc import Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+import pytest
+from streamlit.runtime.memory_media_file_storage import MemoryMediaFileStorage
+from streamlit.testing.v1 import AppTest
+from streamlit.testing.v1 import app_test as app_test_module
+
+REPO = Path(__file__).resolve().parent.parent
+if str(REPO) not in sys.path:
+    sys.path.insert(0, str(REPO))
+
+from app import palette  # noqa: E402
+
+MAIN = str(REPO / "app" / "main.py")
+DEMO_CSV = REPO / "demo_data" / "history.csv"
+
+# AppTest runs can be slow on a busy machine; a fit through the app needs much longer.
+RUN_TIMEOUT_S = 240
+FIT_TIMEOUT_S = 1800
+
+
+@functools.lru_cache(maxsize=1)
+def demo_history():
+    """The demo history, read once per test process."""
+    from loadcore.history import read_history
+
+    return read_history(DEMO_CSV)
+
+
+def new_app(
+    *,
+    page: str | None = None,
+    model: Any = None,
+    scenarios: dict | None = None,
+    extra: dict | None = None,
+    timeout: float = RUN_TIMEOUT_S,
+) -> AppTest:
+    """An AppTest of app/main.py, session seeded with ``model``/``scenarios``, run on ``page``."""
+    at = AppTest.from_file(MAIN, default_timeout=timeout)
+    if model is not None:
+        at.session_state["model"] = model
+    if scenarios is not None:
+        at.session_state["scenarios"] = dict(scenarios)
+    for key, value in (extra or {}).items():
+        at.session_state[key] = value
+    at.run()
+    if page is not None:
+        at.switch_page(page)
+        at.run()
+    return at
+
+
+@functools.lru_cache(maxsize=1)
+def fitted_through_app() -> tuple[Any, dict]:
+    """Fit the demo model once through the Model page (quick search, default settings).
+
+    Returns the fitted model and what the page showed right after the fit (progress bar,
+    exceptions, errors), so the Model page test can check the fit without fitting again.
+    """
+    at = AppTest.from_file(MAIN, default_timeout=RUN_TIMEOUT_S)
+    at.session_state["model"] = None
+    at.run()
+    at.switch_page("pages/model_fit.py")
+    at.run()
+    assert at.radio(key="fit_search").value == "quick"
+    submit = [b for b in at.get("button") if getattr(b, "label", "") == "Fit the model"]
+    assert submit, "the Model page has no 'Fit the model' button"
+    submit[0].click()
+    at.run(timeout=FIT_TIMEOUT_S)
+    seen = {
+        "exceptions": [e.value for e in at.exception],
+        "errors": [e.value for e in at.error],
+        "progress": [(p.value, p.proto.text) for p in at.get("progress")],
+        "markdown": [m.value for m in at.markdown],
+        "metrics": {m.label: m.value for m in at.metric},
+    }
+    model = at.session_state["model"]
+    assert model is not None, f"the fit through the app failed: {seen}"
+    return model, seen
+
+
+def demo_model():
+    """The demo model fitted through the app (once per test process)."""
+    return fitted_through_app()[0]
+
+
+def texts(at: AppTest, kind: str) -> list[str]:
+    """The values of every element of one kind (``"error"``, ``"warning"``, ``"markdown"``...)."""
+    return [str(e.value) for e in at.get(kind)]
+
+
+def assert_no_exception(at: AppTest) -> None:
+    """No uncaught exception reached the page."""
+    assert not at.exception, [e.value for e in at.exception]
+
+
+class _RecordingStorage(MemoryMediaFileStorage):
+    """The in-memory media store of an AppTest run, remembered so download bytes can be read."""
+
+    made: list[MemoryMediaFileStorage] = []
+
+    def __init__(self, media_endpoint: str) -> None:
+        super().__init__(media_endpoint)
+        _RecordingStorage.made.append(self)
+
+
+@contextmanager
+def recording_downloads() -> Iterator[None]:
+    """While active, AppTest runs keep their media store so downloads can be read back."""
+    original = app_test_module.MemoryMediaFileStorage
+    app_test_module.MemoryMediaFileStorage = _RecordingStorage
+    _RecordingStorage.made.clear()
+    try:
+        yield
+    finally:
+        app_test_module.MemoryMediaFileStorage = original
+
+
+def download_bytes(at: AppTest, key: str) -> bytes:
+    """The bytes behind the download button ``key`` in the last run (inside recording_downloads)."""
+    button = at.download_button(key=key)
+    url = button.proto.url
+    assert url, f"download button {key!r} has no file"
+    assert _RecordingStorage.made, "run the app inside recording_downloads()"
+    return _RecordingStorage.made[-1].get_file(os.path.basename(url)).content
+
+
+def heat_wave_settings(model) -> dict[str, Any]:
+    """Path-tool inputs for a heat wave whose peak is 3 °C above the hottest fitted day."""
+    return {
+        "peak_c": float(model.temperature_range_c[1]) + 3.0,
+        "length": 6,
+        "ramp": 2,
+        "start_day": 4,
+        "days": 14,
+    }
+
+
+def build_heat_wave_in_app(at: AppTest, settings: dict[str, Any], name: str = "Heat wave") -> None:
+    """Set the Build-a-scenario page's tools for a seasonal-normal path plus a heat wave."""
+    at.text_input(key="scn_name").set_value(name)
+    at.number_input(key="scn_days").set_value(settings["days"])
+    at.selectbox(key="scn_base").set_value("normal")
+    at.checkbox(key="scn_hw_on").set_value(True)
+    at.number_input(key="scn_hw_peak").set_value(round(settings["peak_c"], 1))
+    at.number_input(key="scn_hw_len").set_value(settings["length"])
+    at.number_input(key="scn_hw_ramp").set_value(settings["ramp"])
+    at.number_input(key="scn_hw_day").set_value(settings["start_day"])
+    at.run()
+
+
+def heat_wave_by_loadcore(model, settings: dict[str, Any], name: str = "Heat wave"):
+    """The same scenario built with loadcore calls only (what the app must match)."""
+    from loadcore.scenario import heat_wave, make_scenario, seasonal_normal_path
+
+    start = model.history_end + pd.Timedelta(days=1)
+    path = seasonal_normal_path(model.history, start, settings["days"])
+    path = heat_wave(
+        path,
+        round(settings["peak_c"], 1),
+        settings["length"],
+        settings["ramp"],
+        settings["start_day"] - 1,
+    )
+    return make_scenario(name, path, None, model_end=model.history_end)
+
+
+# --------------------------------------------------------------------------------------------
+# Tests of the app's small helpers
+# --------------------------------------------------------------------------------------------
+
+
+def test_band_fill_reads_the_hex_colour():
+    assert palette.band_fill("#1F6F78", 0.3) == "rgba(31, 111, 120, 0.30)"
+
+
+def test_day_type_colours_are_distinct_for_override_types():
+    colours = palette.day_type_colours(["midweek", "sunday", "shutdown", "bridge", "midweek"])
+    assert list(colours) == ["midweek", "sunday", "shutdown", "bridge"]
+    assert len(set(colours.values())) == 4
+
+
+def test_scenario_colours_wrap_around():
+    n = len(palette.SCENARIOS)
+    assert palette.scenario_colour(n + 1) == palette.scenario_colour(1)
+
+
+@pytest.mark.parametrize("unit", ["C", "F"])
+def test_temperature_helpers_round_trip(unit):
+    """°F conversion is loadcore's (scenario.c_to_f / f_to_c); the app only chooses the unit."""
+    from streamlit.testing.v1 import AppTest as _AppTest
+
+    script = f"""
+import streamlit as st
+from app import state
+st.session_state["temp_unit"] = "{unit}"
+values = [-10.0, 0.0, 37.5]
+shown = [float(state.to_display(v)) for v in values]
+back = [float(state.from_display(v)) for v in shown]
+st.session_state["out"] = (shown, back, state.delta_to_display(5.0), state.fmt_temp(100.0))
+"""
+    at = _AppTest.from_string(script, default_timeout=60)
+    at.run()
+    assert_no_exception(at)
+    shown, back, delta, text = at.session_state["out"]
+    np.testing.assert_allclose(back, [-10.0, 0.0, 37.5])
+    if unit == "F":
+        # 0 °C = 32 °F and a 5 °C step = 9 °F (common practice, no source).
+        assert shown[1] == pytest.approx(32.0)
+        assert delta == pytest.approx(9.0)
+        assert text == "212.0 °F"
+    else:
+        assert shown == [-10.0, 0.0, 37.5]
+        assert text == "100.0 °C"
