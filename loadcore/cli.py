@@ -96,7 +96,7 @@ class ProgressBar:
         done_n = min(max(int(done), 0), total_n)
         filled = round(self.width * done_n / total_n)
         bar = "#" * filled + "." * (self.width - filled)
-        note = _one_line(text)[:40]
+        note = _one_line(text)[:64]
         line = f"[{bar}] {done_n}/{total_n} {self.label}" + (f"  {note}" if note else "")
         pad = " " * max(len(self._last) - len(line), 0)
         self.stream.write("\r" + line + pad)
@@ -297,13 +297,16 @@ def _fit_settings(args: argparse.Namespace):
 def _model_summary(model: Any, out: str) -> dict[str, Any]:
     history = model.history
     candidates = getattr(model, "candidates", None)
+    evaluated = getattr(model, "candidates_evaluated", None)
+    if evaluated is None:
+        evaluated = len(candidates) if candidates is not None else 0
     summary = {
         "model_file": str(out),
         "order": list(model.order),
         "seasonal_order": list(model.seasonal_order),
         "error_model": model.describe_errors(),
         "aicc": float(model.aicc),
-        "candidates_evaluated": int(len(candidates)) if candidates is not None else 0,
+        "candidates_evaluated": int(evaluated),
         "converged": bool(model.converged),
         "history_start": history.start,
         "history_end": model.history_end,
@@ -457,7 +460,8 @@ def _run_forecast(args: argparse.Namespace) -> int:
     first = table["date"].iloc[0].strftime("%Y-%m-%d")
     last = table["date"].iloc[-1].strftime("%Y-%m-%d")
     lines = [
-        f"Scenario {forecast.scenario_name!r}: {len(table)} days, {first} to {last}; demand in MW.",
+        f"Scenario {forecast.scenario_name!r}: {len(table)} days, {first} to {last}; demand in "
+        f"{getattr(forecast, 'demand_unit', None) or 'MW'}.",
         _forecast_text(table, forecast, args.temp_unit),
         "",
     ]
@@ -656,9 +660,9 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def _add_plugins(sub: Any, modules: Sequence[str] = PLUGIN_MODULES) -> list[str]:
+def _add_plugins(sub: Any, modules: Sequence[str] | None = None) -> list[str]:
     added = []
-    for name in modules:
+    for name in PLUGIN_MODULES if modules is None else modules:
         try:
             module = importlib.import_module(name)
         except ModuleNotFoundError as exc:

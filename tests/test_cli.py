@@ -1,0 +1,389 @@
+"""Tests for the ``loadcore`` command (loadcore.cli) and the benchmark runner.
+
+Most tests call ``main([...])`` in-process and read the output with capsys; a few run the real
+command as ``python -m loadcore`` in a subprocess.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import importlib.util
+import io
+import json
+import math
+import subprocess
+import sys
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from loadcore import cli
+from loadcore.cli import ProgressBar, main
+from loadcore.scenario import (
+    constant_path,
+    heat_wave,
+    make_scenario,
+    write_scenario_csv,
+)
+
+REPO = Path(__file__).resolve().parent.parent
+DEMO = REPO / "demo_data" / "history.csv"
+
+
+def _one_error_line(err: str) -> str:
+    """The stderr text must be exactly one line starting 'error: ' and hold no traceback."""
+    lines = [line for line in err.splitlines() if line.strip()]
+    assert len(lines) == 1, err
+    assert lines[0].startswith("error: "), err
+    assert "Traceback" not in err
+    return lines[0]
+
+
+def _run(*args: str, timeout: float = 300) -> subprocess.CompletedProcess:
+    return subprocess.run(
+        [sys.executable, "-m", "loadcore", *args],
+        capture_output=True,
+        text=True,
+        cwd=REPO,
+        timeout=timeout,
+    )
+
+
+def _bad_history(tmp_path: Path) -> Path:
+    path = tmp_path / "bad_history.csv"
+    path.write_text(
+        "date,demand,temperature\n2024-01-01,1400,5\n2024-01-02,lots,6\n2024-01-02,1410,7\n"
+    )
+    return path
+
+
+# ------------------------------------------------------------------------------------------- check
+
+
+def test_check_good_file_exits_0(capsys):
+    assert main(["check", str(DEMO)]) == 0
+    out = capsys.readouterr().out
+    assert "0 error(s)" in out
+    assert "can be used" in out
+
+
+def test_check_bad_file_exits_1_with_the_report(tmp_path, capsys):
+    assert main(["check", str(_bad_history(tmp_path))]) == 1
+    out = capsys.readouterr().out
+    assert "2 error(s)" in out
+    assert "row 2" in out and "lots" in out
+
+
+def test_check_column_options_reach_the_reader(tmp_path, capsys):
+    path = tmp_path / "renamed.csv"
+    frame = pd.read_csv(DEMO).rename(columns={"date": "Day", "demand": "Peak", "temperature": "T"})
+    frame["T"] = frame["T"] * 9 / 5 + 32
+    frame.to_csv(path, index=False)
+    assert main(["check", str(path)]) == 1
+    capsys.readouterr()
+    code = main(
+        ["check", str(path), "--date-col", "Day", "--demand-col", "Peak", "--temp-col", "T",
+         "--temp-unit", "F"]
+    )  # fmt: skip
+    assert code == 0, capsys.readouterr().out
+
+
+def test_check_subprocess_exit_codes(tmp_path):
+    good = _run("check", str(DEMO))
+    assert good.returncode == 0, good.stderr
+    bad = _run("check", str(_bad_history(tmp_path)))
+    assert bad.returncode == 1
+    assert "error(s)" in bad.stdout
+    assert "Traceback" not in bad.stderr
+
+
+# --------------------------------------------------------------------------------- user mistakes
+
+
+def test_missing_file_is_one_line(capsys):
+    assert main(["check", "no/such/history.csv"]) == 1
+    line = _one_error_line(capsys.readouterr().err)
+    assert "no/such/history.csv" in line
+
+
+def test_history_errors_in_fit_are_one_line(tmp_path, capsys):
+    code = main(["fit", str(_bad_history(tmp_path)), "--out", str(tmp_path / "m.json")])
+    assert code == 1
+    line = _one_error_line(capsys.readouterr().err)
+    assert "loadcore check" in line
+    assert not (tmp_path / "m.json").exists()
+
+
+def test_bad_model_json_is_one_line(tmp_path, capsys):
+    model = tmp_path / "model.json"
+    model.write_text("{this is not json")
+    scen = tmp_path / "s.csv"
+    scen.write_text("date,temperature\n2026-11-30,10\n")
+    assert main(["forecast", str(model), str(scen), "--out", str(tmp_path / "f.csv")]) == 1
+    _one_error_line(capsys.readouterr().err)
+
+
+def test_usage_mistakes_exit_2(capsys):
+    assert main(["forecast", "m.json", "s.csv", "--out", "f.csv", "--levels", "80,120"]) == 2
+    assert "between 0 and 100" in capsys.readouterr().err
+    assert main(["fit", "history.csv"]) == 2  # --out is required
+    assert main(["no-such-command"]) == 2
+    assert main([]) == 2
+    capsys.readouterr()
+    assert main(["--version"]) == 0
+    assert "loadcore" in capsys.readouterr().out
+
+
+def test_unexpected_failure_says_please_report(monkeypatch, capsys):
+    def broken(args):
+        raise RuntimeError("boom\nsecond line")
+
+    monkeypatch.setattr(cli, "_run_check", broken)
+    assert main(["check", str(DEMO)]) == 1
+    line = _one_error_line(capsys.readouterr().err)
+    assert "please report" in line and "RuntimeError" in line and "boom second line" in line
+    assert main(["check", str(DEMO), "--debug"]) == 1
+    err = capsys.readouterr().err
+    assert "Traceback" in err and "please report" in err
+
+
+def test_bad_history_subprocess_has_no_traceback(tmp_path):
+    done = _run("fit", str(_bad_history(tmp_path)), "--out", str(tmp_path / "m.json"))
+    assert done.returncode == 1
+    _one_error_line(done.stderr)
+
+
+# ---------------------------------------------------------------------------------------- helpers
+
+
+def test_progress_bar_draws_on_one_line():
+    class Sink:
+        def __init__(self):
+            self.text = ""
+
+        def write(self, s):
+            self.text += s
+
+        def flush(self):
+            pass
+
+    sink = Sink()
+    bar = ProgressBar("candidates", stream=sink, width=10)
+    bar(0, 4, "starting")
+    bar(2, 4, "AR 1")
+    bar(4, 4, "done")
+    bar.close()
+    assert sink.text.count("\n") == 1 and sink.text.endswith("\n")
+    last = sink.text.rstrip("\n").split("\r")[-1]
+    assert last.startswith("[##########] 4/4 candidates")
+    assert "[#####.....] 2/4" in sink.text
+
+
+def test_levels_parsing():
+    assert cli._levels_arg("95,80") == (80, 95)
+    assert cli._levels_arg("50, 99.5%") == (50, 99.5)
+    for bad in ("", "0", "100", "abc", "80,-5"):
+        with pytest.raises(Exception, match="level|number|between"):
+            cli._levels_arg(bad)
+
+
+def test_plugins_are_optional(tmp_path, monkeypatch, capsys):
+    (tmp_path / "lc_plugin_ok.py").write_text(
+        "def add_cli(sub):\n"
+        "    p = sub.add_parser('hello')\n"
+        "    p.set_defaults(func=lambda args: 3)\n"
+    )
+    (tmp_path / "lc_plugin_broken.py").write_text("raise ValueError('cannot load')\n")
+    (tmp_path / "lc_plugin_plain.py").write_text("X = 1\n")
+    monkeypatch.syspath_prepend(str(tmp_path))
+    modules = ("lc_plugin_missing", "lc_plugin_broken", "lc_plugin_plain", "lc_plugin_ok")
+    monkeypatch.setattr(cli, "PLUGIN_MODULES", modules)
+    assert main(["hello"]) == 3
+    err = capsys.readouterr().err
+    assert "lc_plugin_broken" in err and "cannot load" in err
+    assert "lc_plugin_missing" not in err and "lc_plugin_plain" not in err
+
+
+def test_team_plugins_add_their_commands():
+    parser = cli.build_parser()
+    sub = next(a for a in parser._actions if a.dest == "command")
+    for module, command in (
+        ("loadcore.evaluate", "backtest"),
+        ("loadcore.weather", "ensemble"),
+        ("loadcore.library", "scenarios"),
+    ):
+        if importlib.util.find_spec(module) is not None:
+            assert command in sub.choices, command
+    for command in ("check", "fit", "forecast", "app"):
+        assert command in sub.choices
+
+
+def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
+    seen = {}
+
+    def fake_run(command, env, check):
+        seen["command"], seen["env"] = command, env
+        return subprocess.CompletedProcess(command, 0)
+
+    monkeypatch.setattr(cli.subprocess, "run", fake_run)
+    history = tmp_path / "h.csv"
+    history.write_text(DEMO.read_text())
+    assert main(["app", "--port", "8765", "--history", str(history)]) == 0
+    command = seen["command"]
+    assert command[:4] == [sys.executable, "-m", "streamlit", "run"]
+    assert Path(command[4]) == REPO / "app" / "main.py"
+    flags = dict(zip(command[5::2], command[6::2], strict=True))
+    assert flags == {
+        "--server.port": "8765",
+        "--server.headless": "true",
+        "--browser.gatherUsageStats": "false",
+    }
+    assert seen["env"]["LOADCORE_HISTORY"] == str(history.resolve())
+    assert "localhost:8765" in capsys.readouterr().err
+    assert main(["app", "--history", str(tmp_path / "missing.csv")]) == 1
+    _one_error_line(capsys.readouterr().err)
+    assert main(["app", "--port", "99999"]) == 2
+
+
+# ------------------------------------------------------------------------------- fit and forecast
+
+
+@pytest.fixture(scope="module")
+def fitted(tmp_path_factory):
+    """The demo history fitted once with the quick search through ``loadcore fit --json``."""
+    pytest.importorskip("loadcore.model")
+    folder = tmp_path_factory.mktemp("fit")
+    out = folder / "model.json"
+    stdout, stderr = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(stdout), contextlib.redirect_stderr(stderr):
+        code = main(["fit", str(DEMO), "--out", str(out), "--search", "quick", "--json"])
+    assert code == 0, stderr.getvalue()
+    return {"out": out, "stdout": stdout.getvalue(), "stderr": stderr.getvalue(), "dir": folder}
+
+
+@pytest.mark.slow
+def test_fit_json_keys(fitted):
+    summary = json.loads(fitted["stdout"])  # exactly one JSON object on stdout
+    order, seasonal = summary["order"], summary["seasonal_order"]
+    assert len(order) == 3 and all(isinstance(v, int) and v >= 0 for v in order)
+    assert len(seasonal) == 4 and seasonal[3] == 7
+    assert isinstance(summary["aicc"], float) and math.isfinite(summary["aicc"])
+    assert isinstance(summary["candidates_evaluated"], int) and summary["candidates_evaluated"] >= 1
+    assert isinstance(summary["converged"], bool)
+    assert summary["history_end"] == "2026-11-29"
+    assert fitted["out"].is_file()
+    assert "candidates" in fitted["stderr"] and "[#" in fitted["stderr"]
+
+
+@pytest.mark.slow
+def test_fit_text_summary_uses_plain_words(fitted, tmp_path, capsys):
+    out = tmp_path / "m.json"
+    assert main(["fit", str(DEMO), "--out", str(out), "--search", "quick"]) == 0
+    text = capsys.readouterr().out
+    assert "AICc" in text and "Coefficients" in text and "planning aid" in text
+    assert "differencing" in text  # orders in our own words
+    assert "(" + ",".join(str(v) for v in json.loads(fitted["stdout"])["order"]) + ")" not in text
+
+
+def _scenario_file(folder: Path, model_path: Path, unit: str = "C") -> tuple[Path, float, str]:
+    from loadcore.model import load_model
+
+    model = load_model(model_path)
+    low, high = model.temperature_range_c
+    start = pd.Timestamp(model.history_end) + pd.Timedelta(days=1)
+    base = constant_path(start, 20, (low + high) / 2)
+    path = heat_wave(base, high + 4.0, length_days=14, ramp_days=0, start_day=3)
+    scen = make_scenario("Hot spell", path, model_end=model.history_end)
+    file = folder / f"heat_{unit}.csv"
+    file.write_text(write_scenario_csv(scen, temp_unit=unit))
+    return file, high, start.strftime("%Y-%m-%d")
+
+
+@pytest.mark.slow
+def test_forecast_csv_columns_and_out_of_range_flags(fitted, tmp_path, capsys):
+    scen, high, _ = _scenario_file(tmp_path, fitted["out"])
+    out = tmp_path / "forecast.csv"
+    assert main(["forecast", str(fitted["out"]), str(scen), "--out", str(out)]) == 0
+    printed = capsys.readouterr().out
+    table = pd.read_csv(out)
+    expected = ["date", "temperature", "day_type", "mean", "median", "lower_80", "upper_80",
+                "lower_95", "upper_95", "out_of_range", "out_of_range_by_c", "sparse_temperature"]  # fmt: skip
+    assert list(table.columns) == expected
+    assert len(table) == 20
+    hot = np.zeros(20, bool)
+    hot[3:17] = True
+    assert table["out_of_range"].astype(bool).tolist() == hot.tolist()
+    np.testing.assert_allclose(table.loc[hot, "out_of_range_by_c"], 4.0, atol=0.01)
+    assert (table.loc[~hot, "out_of_range_by_c"].abs() < 1e-9).all()
+    assert (table["lower_95"] <= table["lower_80"]).all()
+    assert (table["lower_80"] <= table["median"]).all()
+    assert (table["median"] <= table["upper_80"]).all()
+    assert (table["upper_80"] <= table["upper_95"]).all()
+    assert table["day_type"].str.len().min() > 0
+    assert "warning:" in printed
+    assert "known" in printed
+    assert "planning aid" in printed
+
+
+@pytest.mark.slow
+def test_forecast_in_fahrenheit_subprocess(fitted, tmp_path):
+    scen, _, _ = _scenario_file(tmp_path, fitted["out"], unit="F")
+    out = tmp_path / "forecast_f.csv"
+    done = _run("forecast", str(fitted["out"]), str(scen), "--out", str(out), "--temp-unit", "F",
+                "--levels", "50,90")  # fmt: skip
+    assert done.returncode == 0, done.stderr
+    table = pd.read_csv(out)
+    assert {"lower_50", "upper_50", "lower_90", "upper_90"} <= set(table.columns)
+    celsius = pd.read_csv(scen)["temperature"]
+    np.testing.assert_allclose(table["temperature"], celsius, atol=1e-3)  # stays in °F
+    assert table["out_of_range"].astype(bool).sum() == 14
+
+
+@pytest.mark.slow
+def test_forecast_wrong_start_names_the_expected_date(fitted, tmp_path, capsys):
+    scen, _, start = _scenario_file(tmp_path, fitted["out"])
+    text = scen.read_text().splitlines()
+    late = tmp_path / "late.csv"
+    late.write_text("\n".join([text[0], *text[2:]]) + "\n")
+    assert main(["forecast", str(fitted["out"]), str(late), "--out", str(tmp_path / "f.csv")]) == 1
+    line = _one_error_line(capsys.readouterr().err)
+    assert f"start the scenario on {start}".lower() in line.lower()
+    blank = tmp_path / "blank.csv"
+    rows = text[:]
+    rows[5] = rows[5].split(",")[0] + ",,"
+    blank.write_text("\n".join(rows) + "\n")
+    done = _run("forecast", str(fitted["out"]), str(blank), "--out", str(tmp_path / "g.csv"))
+    assert done.returncode == 1
+    line = _one_error_line(done.stderr)
+    assert "row 5" in line
+
+
+# ---------------------------------------------------------------------------- benchmark runner
+
+
+def _load_runner():
+    spec = importlib.util.spec_from_file_location("bench_runner", REPO / "benchmarks" / "run.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def test_benchmark_runner_writes_results_and_fails_on_a_failed_benchmark(tmp_path, capsys):
+    runner = _load_runner()
+    (tmp_path / "bench_fast.py").write_text(
+        "def run():\n    return {'ratio': 3.0, 'target': 2.0, 'passed': True}\n"
+    )
+    (tmp_path / "bench_slow.py").write_text(
+        "def run():\n    return {'ratio': 1.1, 'target': 2.0, 'passed': False}\n"
+    )
+    assert runner.main([], directory=tmp_path) == 1
+    assert json.loads((tmp_path / "results" / "fast.json").read_text())["ratio"] == 3.0
+    assert json.loads((tmp_path / "results" / "slow.json").read_text())["passed"] is False
+    printed = capsys.readouterr().out
+    assert "FAILED" in printed and "1 of 2" in printed
+    assert runner.main(["fast"], directory=tmp_path) == 0
+    (tmp_path / "bench_crash.py").write_text("def run():\n    raise OSError('disk')\n")
+    assert runner.main(["crash"], directory=tmp_path) == 1
+    assert "disk" in json.loads((tmp_path / "results" / "crash.json").read_text())["error"]
