@@ -153,7 +153,8 @@ def to_csv_bytes(frame: pd.DataFrame, *, float_digits: int = 8) -> bytes:
     Text cells are neutralised with :func:`safe_frame`, dates are written as ISO 8601
     (``YYYY-MM-DD`` when every value falls at midnight, else ``YYYY-MM-DDTHH:MM:SS``), floats with
     ``float_digits`` significant digits, missing values as empty cells, UTF-8 without a byte-order
-    mark, ``\\n`` line endings. A meaningful index (anything but a plain 0..n-1 range) is written as
+    mark, CRLF line endings (RFC 4180; it also makes the writer quote any cell that holds a
+    carriage return or line feed). A meaningful index (anything but a plain 0..n-1 range) is written as
     leading column(s).
 
     Parameters
@@ -193,7 +194,7 @@ def to_csv_bytes(frame: pd.DataFrame, *, float_digits: int = 8) -> bytes:
             out[column] = series.map(_iso_if_date)
     out = safe_frame(out)
     buffer = io.StringIO()
-    out.to_csv(buffer, index=False, float_format=f"%.{int(float_digits)}g", lineterminator="\n")
+    out.to_csv(buffer, index=False, float_format=f"%.{int(float_digits)}g", lineterminator="\r\n")
     return buffer.getvalue().encode("utf-8")
 
 

@@ -147,7 +147,7 @@ def test_to_csv_bytes_reads_back_safely():
     assert isinstance(data, bytes)
     text = data.decode("utf-8")
     assert not text.startswith("\ufeff")
-    assert "\r\n" not in text
+    assert text.endswith("\r\n") and text.count("\r\n") == 4  # RFC 4180 line breaks
     lines = text.splitlines()
     assert lines[0] == "date,scenario,mean,flag,blank"
     assert lines[1].startswith("2031-07-01,'=1+1,0.3,True,")
@@ -446,3 +446,12 @@ def test_meeting_brief_renders_offline_in_chromium(tmp_path):
     # history + 2 scenarios x (2 levels x 2 band edges + mean) + 1 out-of-range marker trace
     assert traces == 1 + 2 * 5 + 1
     assert "<script>window.__pwned=1</script>: mean" in legend
+
+
+def test_to_csv_bytes_quotes_embedded_line_breaks():
+    """Cells holding CR or LF stay one cell (RFC 4180, section 2: such fields are quoted)."""
+    import csv
+
+    frame = pd.DataFrame({"note": ["one\rtwo", "three\nfour", "\rfive"], "x": [1.0, -2.0, 3.0]})
+    rows = list(csv.reader(io.StringIO(to_csv_bytes(frame).decode(), newline="")))
+    assert rows == [["note", "x"], ["one\rtwo", "1"], ["three\nfour", "-2"], ["'\rfive", "3"]]
