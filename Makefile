@@ -40,5 +40,5 @@ bench: setup
 	$(BIN)/python benchmarks/run.py
 
 lint: setup
-	$(BIN)/ruff check .
-	$(BIN)/ruff format --check .
+	$(BIN)/python -m ruff check .
+	$(BIN)/python -m ruff format --check .
