@@ -426,3 +426,22 @@ def test_read_scenario_csv_errors_name_row_column_or_file(tmp_path):
         read_scenario_csv(b"date,temperature\n2026-07-01,20\n", temp_unit="K")
     with pytest.raises(ScenarioError, match="plausible"):
         read_scenario_csv(b"date,temperature\n2026-07-01,95\n")  # °F read as °C
+
+
+# ------------------------------------------------------------------------ with the demo History
+
+
+def test_builders_accept_a_real_history(demo_history):
+    end = demo_history.end
+    start = end + pd.Timedelta(days=1)
+    normal = seasonal_normal_path(demo_history, start, 30)
+    low, high = demo_history.temperature_range_c
+    assert ((normal > low) & (normal < high)).all()
+    january = seasonal_normal_path(demo_history, "2027-01-10", 1).iloc[0]
+    july = seasonal_normal_path(demo_history, "2027-07-10", 1).iloc[0]
+    assert january + 15 < july  # the demo basin has cold winters and hot summers
+    copied = copy_period(demo_history, "2024-07-01", start, 14)
+    source = demo_history.frame["temperature_c"].loc["2024-07-01":"2024-07-14"].to_numpy()
+    np.testing.assert_allclose(copied.to_numpy(), source)
+    scen = make_scenario("Copy of July 2024", copied, model_end=end)
+    assert scen.start == start and scen.horizon == 14
