@@ -9,6 +9,7 @@ import pandas as pd
 import streamlit as st
 
 from app import charts, state
+from loadcore.calendar import BASE_TYPE
 from loadcore.errors import LoadcoreError
 from loadcore.export import check_upload_size
 from loadcore.scenario import (
@@ -227,7 +228,8 @@ except LoadcoreError as exc:
     st.stop()
 given = base_types if base_types else [""] * len(dates)
 start_types = [mine or cal for mine, cal in zip(given, calendar, strict=True)]
-levels = [str(t) for t in fitted.day_type_levels]
+base_type = BASE_TYPE[fitted.settings.calendar.scheme]
+levels = [base_type] + [str(t) for t in fitted.day_type_levels if str(t) != base_type]
 options = list(dict.fromkeys(levels + [t for t in start_types if t not in levels]))
 
 # --------------------------------------------------------------------------------------------
