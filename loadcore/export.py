@@ -732,6 +732,30 @@ def _figure_html(
                     ),
                 )
             )
+    starts = [_forecast_table(fc, i)["date"].min() for i, fc in enumerate(forecasts)]
+    if starts and not history.empty:
+        first = min(starts)
+        fig.add_shape(
+            type="line",
+            xref="x",
+            yref="paper",
+            x0=first,
+            x1=first,
+            y0=0,
+            y1=1,
+            line={"color": "#8f8a7c", "width": 1, "dash": "dot"},
+        )
+        fig.add_annotation(
+            x=first,
+            y=1,
+            xref="x",
+            yref="paper",
+            text="scenarios start",
+            showarrow=False,
+            xanchor="left",
+            yanchor="top",
+            font={"size": 11, "color": "#5a5e66"},
+        )
     fig.update_layout(
         paper_bgcolor=PAGE_BACKGROUND,
         plot_bgcolor="#ffffff",
@@ -788,7 +812,8 @@ table {{ border-collapse: collapse; width: 100%; font-size: 0.92rem; background:
 th, td {{ padding: 5px 9px; border-bottom: 1px solid #e6e2d6; text-align: left;
   vertical-align: top; }}
 th {{ background: #ece7da; font-weight: 600; }}
-table.numbers td:not(:first-child) {{ text-align: right; font-variant-numeric: tabular-nums; }}
+table.numbers td:not(:first-child) {{ text-align: right; font-variant-numeric: tabular-nums;
+  white-space: nowrap; }}
 ul.plain {{ padding-left: 20px; }}
 footer {{ margin-top: 36px; font-size: 0.82rem; color: #6d7078; }}
 .note {{ color: #4a4e55; font-size: 0.9rem; }}
@@ -870,7 +895,9 @@ def meeting_brief_html(
             f"Peak mean ({du})",
             f"Peak vs base ({du})",
             "Peak vs base (%)",
-            f"Sum of daily means ({summary['sum_unit'].iloc[0]})",
+            f"Sum of daily means ({du}-days)"
+            if str(demand_kind).strip().lower() == "peak"
+            else f"Sum of daily means ({du})",
             "Sum vs base (%)",
             "Days outside range",
         ],

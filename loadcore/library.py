@@ -643,9 +643,9 @@ class ScenarioLibrary:
         names = [r[0] for r in conn.execute("SELECT name FROM scenarios ORDER BY name")]
         close = difflib.get_close_matches(name, names, n=3)
         fix = (
-            f"did you mean {', '.join(repr(c) for c in close)}?"
+            f"Check the spelling; close names: {', '.join(repr(c) for c in close)}"
             if close
-            else "pick a name from the library's list"
+            else "Pick a name from the library's list"
         )
         return InputError(f"No saved scenario is named {name!r}", where=self._where, fix=fix)
 
