@@ -129,14 +129,16 @@ def safe_frame(frame: pd.DataFrame) -> pd.DataFrame:
             f"Expected a table to export, got {type(frame).__name__}",
             fix="Pass a pandas DataFrame",
         )
-    out = frame.copy()
-    for column in out.columns:
-        if _is_text_column(out[column]):
-            values = out[column].astype(object)
-            out[column] = values.map(safe_cell).astype(object)
-    out.columns = [
-        safe_cell(str(c)) if not isinstance(c, str) else safe_cell(c) for c in out.columns
-    ]
+    header = [safe_cell(c if isinstance(c, str) else str(c)) for c in frame.columns]
+    columns = {}
+    for i in range(frame.shape[1]):  # by position, so repeated column names are fine
+        series = frame.iloc[:, i]
+        if _is_text_column(series):
+            series = series.astype(object).map(safe_cell).astype(object)
+        columns[i] = series
+    out = pd.DataFrame(columns, index=frame.index)
+    out.columns = header
+    out.attrs = dict(frame.attrs)
     return out
 
 
@@ -181,17 +183,20 @@ def to_csv_bytes(frame: pd.DataFrame, *, float_digits: int = 8) -> bytes:
     out = frame
     if not isinstance(out.index, pd.RangeIndex) or out.index.name is not None:
         out = out.reset_index()
-    out = out.copy()
-    for column in out.columns:
-        series = out[column]
+    header = list(out.columns)
+    columns = {}
+    for i in range(out.shape[1]):  # by position, so repeated column names are fine
+        series = out.iloc[:, i]
         if isinstance(series.dtype, pd.DatetimeTZDtype) or pd.api.types.is_datetime64_any_dtype(
             series.dtype
         ):
             pattern = "%Y-%m-%d" if _all_midnight(series) else "%Y-%m-%dT%H:%M:%S"
-            text = series.dt.strftime(pattern)
-            out[column] = text.astype(object).where(series.notna(), None)
+            series = series.dt.strftime(pattern).astype(object).where(series.notna(), None)
         elif pd.api.types.is_object_dtype(series.dtype):
-            out[column] = series.map(_iso_if_date)
+            series = series.map(_iso_if_date)
+        columns[i] = series
+    out = pd.DataFrame(columns, index=out.index)
+    out.columns = header
     out = safe_frame(out)
     buffer = io.StringIO()
     out.to_csv(buffer, index=False, float_format=f"%.{int(float_digits)}g", lineterminator="\r\n")

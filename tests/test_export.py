@@ -455,3 +455,10 @@ def test_to_csv_bytes_quotes_embedded_line_breaks():
     frame = pd.DataFrame({"note": ["one\rtwo", "three\nfour", "\rfive"], "x": [1.0, -2.0, 3.0]})
     rows = list(csv.reader(io.StringIO(to_csv_bytes(frame).decode(), newline="")))
     assert rows == [["note", "x"], ["one\rtwo", "1"], ["three\nfour", "-2"], ["'\rfive", "3"]]
+
+
+def test_to_csv_bytes_handles_repeated_and_odd_column_names():
+    frame = pd.DataFrame([[1.0, "=x", 3]], columns=["a", "a", 7])
+    text = to_csv_bytes(frame).decode()
+    assert text.splitlines() == ["a,a,7", "1,'=x,3"]
+    assert to_csv_bytes(pd.DataFrame()).decode().strip() == ""

@@ -475,3 +475,27 @@ def test_load_model_survives_mutated_model_files(saved_model_doc, data):
     status, result = outcome(model.load_model, json.dumps(doc))
     if status == "ok":
         assert hasattr(result, "forecast")
+
+
+@FAST
+@given(
+    names=st.lists(hostile_text, min_size=1, max_size=5),
+    rows=st.integers(min_value=0, max_value=6),
+    data=st.data(),
+)
+def test_csv_export_survives_odd_frames(names, rows, data):
+    """Any table of mixed cells and odd or repeated header names writes a rectangular CSV."""
+    columns = [data.draw(st.lists(scalars, min_size=rows, max_size=rows)) for _ in names]
+    frame = pd.DataFrame(dict(enumerate(columns)), dtype=object)
+    frame.columns = names
+    status, payload = outcome(to_csv_bytes, frame)
+    assert status == "ok"
+    parsed = list(csv.reader(io.StringIO(payload.decode("utf-8"), newline="")))
+    assert len(parsed) == rows + 1
+    assert all(len(row) == len(names) for row in parsed)
+    for i, column in enumerate(columns):
+        for r, value in enumerate(column):
+            if isinstance(value, str):
+                assert not parsed[r + 1][i].startswith(FORMULA_PREFIXES)
+    for header in parsed[0]:
+        assert not header.startswith(FORMULA_PREFIXES)
