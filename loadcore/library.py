@@ -525,7 +525,13 @@ class ScenarioLibrary:
     def _where(self) -> str:
         return f"library {self.path}"
 
-    def _translate(self, exc: sqlite3.Error) -> InputError:
+    def _translate(self, exc: sqlite3.Error | UnicodeDecodeError) -> InputError:
+        if isinstance(exc, UnicodeDecodeError):  # SQLite's message quotes damaged bytes
+            return InputError(
+                "This file is not a loadcore scenario library or it is damaged",
+                where=self._where,
+                fix="Choose another library file, or restore this one from a backup",
+            )
         text = str(exc)
         if isinstance(exc, sqlite3.OperationalError) and "locked" in text:
             return InputError(
@@ -548,13 +554,15 @@ class ScenarioLibrary:
     def _connect(self) -> sqlite3.Connection:
         try:
             conn = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None)
+            # A damaged file may hold bytes that are not UTF-8: show them replaced, never crash.
+            conn.text_factory = lambda raw: raw.decode("utf-8", errors="replace")
             conn.execute(f"PRAGMA busy_timeout = {BUSY_TIMEOUT_MS}")
             mode = conn.execute("PRAGMA journal_mode = WAL").fetchone()[0]
             if str(mode).lower() != "wal":
                 log.warning("library %s: WAL journal mode unavailable (%s)", self.path, mode)
             conn.execute("PRAGMA synchronous = FULL")
             conn.execute("PRAGMA foreign_keys = ON")
-        except sqlite3.Error as exc:
+        except (sqlite3.Error, UnicodeDecodeError) as exc:
             raise self._translate(exc) from None
         return conn
 
@@ -563,7 +571,7 @@ class ScenarioLibrary:
         conn = self._connect()
         try:
             yield conn
-        except sqlite3.Error as exc:
+        except (sqlite3.Error, UnicodeDecodeError) as exc:
             raise self._translate(exc) from None
         finally:
             conn.close()
@@ -578,14 +586,17 @@ class ScenarioLibrary:
             conn.execute("COMMIT")
         except BaseException as exc:
             if conn.in_transaction:
-                conn.execute("ROLLBACK")
+                try:
+                    conn.execute("ROLLBACK")
+                except (sqlite3.Error, UnicodeDecodeError):
+                    log.exception("library %s: rollback failed", self.path)
             if isinstance(exc, sqlite3.IntegrityError):
                 raise InputError(
                     "A saved scenario with this name already exists",
                     where=self._where,
                     fix="Choose another name (names ignore upper and lower case)",
                 ) from None
-            if isinstance(exc, sqlite3.Error):
+            if isinstance(exc, (sqlite3.Error, UnicodeDecodeError)):
                 raise self._translate(exc) from None
             raise
         finally:
@@ -640,7 +651,11 @@ class ScenarioLibrary:
         return conn.execute(f"SELECT {_COLUMNS} FROM scenarios WHERE name = ?", (name,)).fetchone()
 
     def _not_found(self, name: str, conn: sqlite3.Connection) -> InputError:
-        names = [r[0] for r in conn.execute("SELECT name FROM scenarios ORDER BY name")]
+        names = [
+            r[0]
+            for r in conn.execute("SELECT name FROM scenarios ORDER BY name")
+            if isinstance(r[0], str)
+        ]
         close = difflib.get_close_matches(name, names, n=3)
         fix = (
             f"Check the spelling; close names: {', '.join(repr(c) for c in close)}"
@@ -667,12 +682,14 @@ class ScenarioLibrary:
             context,
         ) = row
         try:
+            if not all(isinstance(x, str) for x in (name, definition, settings, forecast, context)):
+                raise TypeError("a stored field is missing")
             return SavedScenario(
                 name=name,
-                note=note,
-                author=author,
-                created_utc=created,
-                changed_utc=changed,
+                note=str(note or ""),
+                author=str(author or ""),
+                created_utc=str(created),
+                changed_utc=str(changed),
                 version=int(version),
                 definition=json.loads(definition),
                 model_fingerprint=fingerprint,
@@ -680,7 +697,7 @@ class ScenarioLibrary:
                 forecast=_frame_from_json(forecast),
                 context=json.loads(context),
             )
-        except (ValueError, TypeError, AttributeError) as exc:
+        except (ValueError, TypeError, AttributeError, KeyError) as exc:
             raise InputError(
                 f"The saved scenario {name!r} is damaged and cannot be read: {exc}",
                 where=self._where,
@@ -711,21 +728,28 @@ class ScenarioLibrary:
             rows = conn.execute(
                 f"SELECT {_LIST_COLUMNS} FROM scenarios ORDER BY name COLLATE NOCASE, id"
             ).fetchall()
-        listings = [
-            ScenarioListing(
-                name=r[0],
-                note=r[1],
-                author=r[2],
-                created_utc=r[3],
-                changed_utc=r[4],
-                version=int(r[5]),
-                first_date=r[6],
-                last_date=r[7],
-                days=int(r[8]),
-                model_fingerprint=r[9],
-            )
-            for r in rows
-        ]
+        try:
+            listings = [
+                ScenarioListing(
+                    name=str(r[0]),
+                    note=str(r[1] or ""),
+                    author=str(r[2] or ""),
+                    created_utc=str(r[3]),
+                    changed_utc=str(r[4]),
+                    version=int(r[5]),
+                    first_date=str(r[6]),
+                    last_date=str(r[7]),
+                    days=int(r[8]),
+                    model_fingerprint=str(r[9]),
+                )
+                for r in rows
+            ]
+        except (TypeError, ValueError) as exc:
+            raise InputError(
+                f"The scenario library is damaged and its list cannot be read: {exc}",
+                where=self._where,
+                fix="Restore the library from a backup",
+            ) from None
         if search is None or not str(search).strip():
             return listings
         needle = unicodedata.normalize("NFC", str(search)).strip().casefold()

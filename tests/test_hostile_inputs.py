@@ -499,3 +499,50 @@ def test_csv_export_survives_odd_frames(names, rows, data):
                 assert not parsed[r + 1][i].startswith(FORMULA_PREFIXES)
     for header in parsed[0]:
         assert not header.startswith(FORMULA_PREFIXES)
+
+
+@pytest.fixture(scope="module")
+def library_bytes(tmp_path_factory):
+    """The bytes of a small, healthy library file with three saved scenarios."""
+    library_mod = pytest.importorskip("loadcore.library")
+    path = tmp_path_factory.mktemp("healthy") / "lib.sqlite"
+    library = library_mod.ScenarioLibrary(path)
+    for i in range(3):
+        library.save(_entry(f"scenario {i}", f"note {i}", "author"))
+    return path.read_bytes()
+
+
+@settings(
+    max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture]
+)
+@given(
+    patches=st.lists(
+        st.tuples(st.integers(min_value=0, max_value=40_000), st.binary(min_size=1, max_size=64)),
+        min_size=1,
+        max_size=4,
+    ),
+    truncate=st.one_of(st.none(), st.integers(min_value=0, max_value=40_000)),
+)
+def test_damaged_library_file_gives_input_errors(
+    tmp_path_factory, library_bytes, patches, truncate
+):
+    """Overwritten or cut library files: every call ends in a LoadcoreError or a valid answer."""
+    from loadcore.library import ScenarioLibrary
+
+    raw = bytearray(library_bytes)
+    for offset, chunk in patches:
+        offset %= max(len(raw), 1)
+        raw[offset : offset + len(chunk)] = chunk
+    if truncate is not None:
+        raw = raw[: truncate % (len(raw) + 1)]
+    path = tmp_path_factory.mktemp("damaged") / "lib.sqlite"
+    path.write_bytes(bytes(raw))
+    status, library = outcome(ScenarioLibrary, path)
+    if status == "error":
+        return
+    status, listing = outcome(library.list)
+    names = [item.name for item in listing] if status == "ok" else ["scenario 0", "scenario 1"]
+    for name in names:
+        outcome(library.get, name)
+    outcome(library.save, _entry("after damage", "", ""))
+    outcome(library.integrity_ok)
