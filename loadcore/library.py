@@ -1127,6 +1127,13 @@ def _cli_save(args: argparse.Namespace) -> int:
     from loadcore.model import load_model
     from loadcore.scenario import read_scenario_csv
 
+    library = _open(args)
+    if args.name in library:  # refuse before the forecast work; save() checks again
+        raise InputError(
+            f"A saved scenario named {args.name!r} already exists",
+            where=f"library {library.path}",
+            fix="Choose another --name",
+        )
     model = load_model(args.model)
     scenario = read_scenario_csv(
         args.scenario_csv,
@@ -1135,7 +1142,6 @@ def _cli_save(args: argparse.Namespace) -> int:
         model_end=getattr(model, "history_end", None),
     )
     forecast = model.forecast(scenario)
-    library = _open(args)
     entry = entry_from_forecast(
         forecast, scenario=scenario, model=model, name=args.name, note=args.note, author=args.author
     )

@@ -676,3 +676,58 @@ def test_cli_save_with_a_fitted_model(tmp_path, demo_history, capsys):
     assert run(["scenarios", "export", "Hot week", "--db", str(db), "--out", str(out_html)]) == 0
     text = out_html.read_text(encoding="utf-8")
     assert "Model history" in text and "weekly AR" in text
+
+
+def test_cli_save_with_a_stand_in_model(tmp_path, monkeypatch, capsys):
+    """The save command's own path (read file, forecast, store) with a contract-shaped model."""
+    import loadcore.model as model_mod
+    from loadcore.scenario import write_scenario_csv
+
+    @dataclass(frozen=True)
+    class History:
+        frame: pd.DataFrame
+
+    @dataclass(frozen=True)
+    class Fc:
+        frame: pd.DataFrame
+        levels: tuple
+        scenario_name: str
+        note: str = ""
+        demand_unit: str = "MW"
+
+        def warnings(self):
+            return []
+
+    @dataclass(frozen=True)
+    class StandIn(FakeModel):
+        history: History | None = None
+
+        @property
+        def history_end(self):
+            return self.history.frame.index[-1]
+
+        def forecast(self, scenario, levels=(80, 95)):
+            frame = forecast_table(start=str(scenario.start.date()), days=scenario.horizon)
+            frame["temperature_c"] = scenario.temperature_c
+            return Fc(frame, tuple(levels), scenario.name)
+
+    idx = pd.date_range("2031-05-01", periods=61, freq="D", name="date")
+    model = StandIn(history=History(pd.DataFrame({"demand": 1900.0}, index=idx)))
+    seen = []
+    monkeypatch.setattr(model_mod, "load_model", lambda path: seen.append(path) or model)
+    scenario = make_scenario("file name", constant_path("2031-07-01", 7, 31.0))
+    csv_path = tmp_path / "week.csv"
+    csv_path.write_text(write_scenario_csv(scenario, temp_unit="F"))
+    db = tmp_path / "cli.sqlite"
+    argv = ["scenarios", "save", str(csv_path), "--name", "Warm week", "--model", "m.json"]
+    argv += ["--db", str(db), "--author", "cli", "--temp-unit", "F"]
+    assert run(argv) == 0
+    assert seen == ["m.json"]
+    assert "Saved 'Warm week' (version 1, 7 days)" in capsys.readouterr().out
+    saved = ScenarioLibrary(db).get("Warm week")
+    assert saved.author == "cli" and is_current(saved, model)
+    np.testing.assert_allclose(saved.forecast["temperature_c"], 31.0, atol=1e-6)
+    assert saved.context["history_period"] == ["2031-05-01", "2031-06-30"]
+    # a second save under the same name is refused with the library's message
+    with pytest.raises(LoadcoreError, match="already exists"):
+        run(argv)
