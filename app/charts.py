@@ -40,6 +40,13 @@ def _style(fig: go.Figure, *, height: int, font_size: int = 14, legend_top: bool
     fig.update_yaxes(gridcolor=palette.GRID, zeroline=False)
 
 
+def _ordered_types(types: pd.Series) -> list[str]:
+    """Day types present, in the palette's order (weekdays first), overrides after."""
+    present = [str(t) for t in pd.unique(types)]
+    known = [t for t in palette.DAY_TYPES if t in present]
+    return known + [t for t in present if t not in known]
+
+
 def history_figure(
     frame: pd.DataFrame,
     day_types: pd.Series,
@@ -78,7 +85,7 @@ def history_figure(
         col=1,
     )
     types = day_types.reindex(dates)
-    colours = palette.day_type_colours(list(pd.unique(types)))
+    colours = palette.day_type_colours(_ordered_types(types))
     for name, colour in colours.items():
         mask = (types == name).to_numpy()
         fig.add_trace(
@@ -125,7 +132,7 @@ def response_figure(
     """Demand against temperature coloured by day type, with the fitted response and range."""
     fig = go.Figure()
     types = day_types.reindex(frame.index)
-    colours = palette.day_type_colours(list(pd.unique(types)))
+    colours = palette.day_type_colours(_ordered_types(types))
     temps = to_unit(frame["temperature_c"].to_numpy())
     for name, colour in colours.items():
         mask = (types == name).to_numpy()

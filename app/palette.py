@@ -38,9 +38,9 @@ THRESHOLD = "#A4243B"
 
 # Day types (both schemes); override types not listed get EXTRA colours in turn.
 DAY_TYPES = {
+    "monday": "#5FA8A0",
     "midweek": "#1F6F78",
     "working": "#1F6F78",
-    "monday": "#5FA8A0",
     "friday": "#94B447",
     "saturday": "#E09F3E",
     "sunday": "#B5485D",

@@ -119,9 +119,11 @@ def test_meeting_view_shows_the_chart_large_and_hides_the_controls():
 
 
 def test_meeting_view_is_reached_from_any_page():
-    at = new_app(page="pages/history.py", model=demo_model(), scenarios=_two_scenarios())
-    at.toggle(key="meeting_view").set_value(True)
-    at.run()
+    at = new_app(  # the app opens on the History page; the meeting view sends it to Compare
+        model=demo_model(),
+        scenarios=_two_scenarios(),
+        extra={"meeting_view": True},
+    )
     assert_no_exception(at)
     assert [t.value for t in at.title] == ["Demand scenarios"]
 
