@@ -337,7 +337,7 @@ def _run_fit(args: argparse.Namespace) -> int:
     lines = [
         f"Model fitted on {summary['history_start']} to {summary['history_end']} "
         f"({len(history.frame)} days) and saved to {args.out}.",
-        f"Error model: {summary['error_model']}",
+        _labelled("Error model", summary["error_model"]),
         f"AICc {summary['aicc']:,.1f}; {summary['candidates_evaluated']} candidate models "
         f"evaluated; estimation converged: {'yes' if summary['converged'] else 'NO'}.",
         f"Fitted temperature range: {low:.1f} °C to {high:.1f} °C.",
@@ -355,6 +355,11 @@ def _run_fit(args: argparse.Namespace) -> int:
         )
     _say("\n".join(lines))
     return 0
+
+
+def _labelled(label: str, text: str) -> str:
+    text = str(text).strip()
+    return text if text.lower().startswith(label.lower()) else f"{label}: {text}"
 
 
 def _table_text(table: Any) -> str:

@@ -252,13 +252,18 @@ def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
 
 @pytest.fixture(scope="module")
 def fitted(tmp_path_factory):
-    """The demo history fitted once with the quick search through ``loadcore fit --json``."""
+    """The last two years of the demo history fitted once through ``loadcore fit --json``, with the
+    quick search and small order limits so the suite stays short on a shared machine."""
     pytest.importorskip("loadcore.model")
     folder = tmp_path_factory.mktemp("fit")
+    recent = folder / "recent_history.csv"
+    lines = DEMO.read_text().splitlines()
+    recent.write_text("\n".join([lines[0], *lines[-730:]]) + "\n")
     out = folder / "model.json"
     stdout, stderr = io.StringIO(), io.StringIO()
+    limits = ["--max-p", "2", "--max-q", "1", "--max-seasonal-p", "1", "--max-seasonal-q", "0"]
     with contextlib.redirect_stdout(stdout), contextlib.redirect_stderr(stderr):
-        code = main(["fit", str(DEMO), "--out", str(out), "--search", "quick", "--json"])
+        code = main(["fit", str(recent), "--out", str(out), "--search", "quick", "--json", *limits])
     assert code == 0, stderr.getvalue()
     return {"out": out, "stdout": stdout.getvalue(), "stderr": stderr.getvalue(), "dir": folder}
 
