@@ -24,9 +24,10 @@ def _identity(values):
 
 
 def _style(fig: go.Figure, *, height: int, font_size: int = 14, legend_top: bool = True) -> None:
+    big = font_size > 16
     fig.update_layout(
         height=height,
-        margin={"l": 60, "r": 20, "t": 40, "b": 40},
+        margin={"l": 110 if big else 70, "r": 40, "t": 40, "b": 90 if big else 50},
         paper_bgcolor=palette.PAPER,
         plot_bgcolor="white",
         font={"family": palette.FONT_FAMILY, "size": font_size, "color": palette.INK},
@@ -36,8 +37,8 @@ def _style(fig: go.Figure, *, height: int, font_size: int = 14, legend_top: bool
         fig.update_layout(
             legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0}
         )
-    fig.update_xaxes(gridcolor=palette.GRID, zeroline=False)
-    fig.update_yaxes(gridcolor=palette.GRID, zeroline=False)
+    fig.update_xaxes(gridcolor=palette.GRID, zeroline=False, automargin=True)
+    fig.update_yaxes(gridcolor=palette.GRID, zeroline=False, automargin=True)
 
 
 def _ordered_types(types: pd.Series) -> list[str]:
@@ -300,7 +301,7 @@ def comparison_figure(
                         "symbol": palette.OUTSIDE_SYMBOL,
                         "line": {"color": "white", "width": 1},
                     },
-                    name=f"{fc.scenario_name}: outside the fitted temperature range",
+                    name=f"{fc.scenario_name}: outside fitted range",
                     legendgroup=group,
                 )
             )

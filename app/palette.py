@@ -49,7 +49,7 @@ DAY_TYPES = {
 }
 EXTRA = ("#2E5C8A", "#8E4162", "#C99A2E", "#4F772D", "#6C7A7D")
 
-FONT_FAMILY = "Source Sans 3, Segoe UI, Helvetica, Arial, sans-serif"
+FONT_FAMILY = "Arial, Helvetica, Liberation Sans, DejaVu Sans, sans-serif"
 
 
 def scenario_colour(index: int) -> str:

@@ -104,8 +104,14 @@ def served_app(tmp_path):
 
 
 def _shot(page, name: str) -> None:
+    """A screenshot of the top of the page (Streamlit scrolls inside its own container)."""
     ARTIFACTS.mkdir(exist_ok=True)
-    page.screenshot(path=str(ARTIFACTS / f"{name}.png"), full_page=True)
+    page.evaluate(
+        "() => document.querySelectorAll('[data-testid=\"stMain\"], section.main')"
+        ".forEach(el => el.scrollTo(0, 0))"
+    )
+    page.wait_for_timeout(800)  # let the charts finish drawing
+    page.screenshot(path=str(ARTIFACTS / f"{name}.png"))
 
 
 def _go(page, link: str, title: str) -> None:
@@ -153,7 +159,8 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             # Compare: the warning names the dates, the chart is drawn, the CSV downloads.
             _go(page, "Compare", "Compare")
             page.locator(".js-plotly-plot").first.wait_for()
-            text = page.get_by_text("outside the fitted temperature range").first.inner_text()
+            alert = page.locator("[data-testid='stAlert']", has_text="fitted temperature range")
+            text = alert.first.inner_text()
             forecast = model.forecast(_scenario_like_the_app(model, peak_c))
             for day in forecast.frame.loc[forecast.frame["out_of_range"], "date"]:
                 assert f"{day:%Y-%m-%d}" in text
@@ -187,7 +194,10 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             # Meeting view for a projector.
             page.get_by_text("Meeting view").first.click()
             page.get_by_role("heading", name="Demand scenarios").wait_for()
+            page.get_by_role("button", name="Leave the meeting view").wait_for()
+            page.get_by_role("heading", name="Day by day").wait_for(state="detached")
             page.locator(".js-plotly-plot").first.wait_for()
+            assert page.locator("[data-testid='stSidebar']").is_hidden()
             _shot(page, "05_meeting_view")
         finally:
             browser.close()

@@ -91,14 +91,16 @@ by_h = result.by_horizon
 st.subheader("By days ahead")
 left, right = st.columns(2)
 left.plotly_chart(
-    charts.lines_figure(
+    theme=None,
+    figure_or_data=charts.lines_figure(
         by_h, "horizon", ["mape", "naive_mape"], x_title="days ahead", y_title="MAPE, %"
     ),
     key="bt_mape",
 )
 coverage_cols = [f"coverage_{lv}" for lv in levels]
 right.plotly_chart(
-    charts.lines_figure(
+    theme=None,
+    figure_or_data=charts.lines_figure(
         by_h.assign(**{c: by_h[c] * 100 for c in coverage_cols}),
         "horizon",
         coverage_cols,
@@ -114,7 +116,8 @@ st.subheader("PIT histogram")
 counts, edges = result.pit_histogram(10)
 share = counts / max(counts.sum(), 1) * 100
 st.plotly_chart(
-    charts.bars_figure(
+    theme=None,
+    figure_or_data=charts.bars_figure(
         np.round((edges[:-1] + edges[1:]) / 2, 2),
         share,
         x_title="PIT value",

@@ -40,6 +40,8 @@ if meeting:
         ".block-container {padding-top: 1rem; max-width: 100%;}"
         ".stMarkdown p, .stMarkdown li, .stAlert p {font-size: 1.45rem; line-height: 1.5;}"
         "h1 {font-size: 2.6rem !important;}"
+        "[data-testid='stMetricValue'] {font-size: 3rem;}"
+        "[data-testid='stMetricLabel'] p {font-size: 1.4rem;}"
         "</style>"
     )
     st.title("Demand scenarios")
@@ -49,7 +51,8 @@ if meeting:
     )
     tail = fitted.history.frame["demand"].iloc[-42:]
     st.plotly_chart(
-        charts.comparison_figure(tail, list(forecasts.values()), meeting=True),
+        theme=None,
+        figure_or_data=charts.comparison_figure(tail, list(forecasts.values()), meeting=True),
         key="meeting_chart",
     )
     summary = comparison_summary(list(forecasts.values()), names[0])
@@ -79,7 +82,7 @@ tail_days = right.number_input("History days shown", 7, 730, 56, step=7, key="cm
 
 chosen = [forecasts[n] for n in shown]
 tail = fitted.history.frame["demand"].iloc[-int(tail_days) :]
-st.plotly_chart(charts.comparison_figure(tail, chosen), key="cmp_chart")
+st.plotly_chart(theme=None, figure_or_data=charts.comparison_figure(tail, chosen), key="cmp_chart")
 st.caption(
     "Lines are mean daily peaks; shaded bands are 80 % and 95 % prediction intervals that treat "
     "the scenario temperatures as known. Triangles mark days outside the fitted temperature range."

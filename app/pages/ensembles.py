@@ -64,7 +64,10 @@ if not kept or kept["model"] != state.model_key(fitted):
 result = kept["result"]
 tail = fitted.history.frame["demand"].iloc[-28:]
 st.plotly_chart(
-    charts.fan_figure(result.daily, history_tail=tail, threshold_mw=result.threshold_mw),
+    theme=None,
+    figure_or_data=charts.fan_figure(
+        result.daily, history_tail=tail, threshold_mw=result.threshold_mw
+    ),
     key="ens_fan",
 )
 st.caption(result.note)
@@ -95,7 +98,8 @@ peak = result.peak_distribution
 hist = peak.to_frame()
 mid = (hist["low_mw"] + hist["high_mw"]) / 2
 st.plotly_chart(
-    charts.bars_figure(
+    theme=None,
+    figure_or_data=charts.bars_figure(
         mid.round(0),
         hist["share"] * 100,
         x_title="window peak, MW",

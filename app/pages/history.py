@@ -200,7 +200,10 @@ with st.expander("Calendar: public holidays and special periods", expanded=False
 types = day_types(frame.index, spec)
 st.subheader("Demand and temperature over time")
 st.plotly_chart(
-    charts.history_figure(frame, types, to_unit=state.to_display, unit=state.unit_symbol()),
+    theme=None,
+    figure_or_data=charts.history_figure(
+        frame, types, to_unit=state.to_display, unit=state.unit_symbol()
+    ),
     key="history_chart",
 )
 
@@ -219,7 +222,8 @@ if fitted is not None and fitted.history.fingerprint == history.fingerprint:
 else:
     st.caption("Fit a model to draw the fitted response. The band is the range in the data.")
 st.plotly_chart(
-    charts.response_figure(
+    theme=None,
+    figure_or_data=charts.response_figure(
         frame,
         types,
         curve_c=curve_c,

@@ -214,14 +214,16 @@ resid = diag.residuals.rename("residual").rename_axis("date").reset_index()
 scale = "log demand" if fitted.settings.log else f"{fitted.demand_unit}"
 left, right = st.columns(2)
 left.plotly_chart(
-    charts.lines_figure(
+    theme=None,
+    figure_or_data=charts.lines_figure(
         resid, "date", ["residual"], x_title="date", y_title=f"one-day-ahead error, {scale}"
     ),
     key="diag_resid",
 )
 acf = np.asarray(diag.acf, dtype=float)  # lags 1, 2, ... as loadcore returns them
 right.plotly_chart(
-    charts.bars_figure(
+    theme=None,
+    figure_or_data=charts.bars_figure(
         np.arange(1, len(acf) + 1),
         acf,
         x_title="lag, days",
@@ -231,7 +233,8 @@ right.plotly_chart(
     key="diag_acf",
 )
 st.plotly_chart(
-    charts.histogram_figure(
+    theme=None,
+    figure_or_data=charts.histogram_figure(
         resid["residual"].to_numpy(dtype=float),
         x_title=f"one-day-ahead error, {scale}",
         y_title="days",

@@ -157,7 +157,9 @@ if picked:
     if ok:
         stored = [e.to_forecast() for e in entries]
         tail = entries[0].history_tail()["demand"]
-        st.plotly_chart(charts.comparison_figure(tail, stored), key="lib_chart")
+        st.plotly_chart(
+            theme=None, figure_or_data=charts.comparison_figure(tail, stored), key="lib_chart"
+        )
         base = st.selectbox("Base scenario", picked, key="lib_base")
         ok, summary = state.attempt(lambda: comparison_summary(stored, base))
         if ok:

@@ -288,7 +288,8 @@ except LoadcoreError as exc:
     st.stop()
 
 st.plotly_chart(
-    charts.path_figure(
+    theme=None,
+    figure_or_data=charts.path_figure(
         scenario.dates,
         scenario.temperature_c,
         fitted.temperature_range_c,
@@ -309,7 +310,9 @@ if len(outside):
 
 st.subheader("Forecast for this scenario")
 tail = fitted.history.frame["demand"].iloc[-28:]
-st.plotly_chart(charts.comparison_figure(tail, [fc]), key="scn_forecast_chart")
+st.plotly_chart(
+    theme=None, figure_or_data=charts.comparison_figure(tail, [fc]), key="scn_forecast_chart"
+)
 for line in fc.warnings():
     if "range" not in line.lower():
         st.caption(line)
