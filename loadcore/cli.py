@@ -410,11 +410,14 @@ def _forecast_text(table: Any, forecast: Any, unit: str) -> str:
     shown = table.copy()
     shown["date"] = shown["date"].dt.strftime("%Y-%m-%d")
     flags = []
-    for _, row in shown.iterrows():
+    temps_c = forecast.frame["temperature_c"].astype(float).to_numpy()
+    top = max(getattr(forecast, "temperature_range_c", (0.0, 0.0)))
+    for i, (_, row) in enumerate(shown.iterrows()):
         marks = []
         if row["out_of_range"]:
-            by = float(row["out_of_range_by_c"])
-            marks.append(f"outside fitted range by {abs(by):.1f} °C" if by else "outside range")
+            by = abs(float(row["out_of_range_by_c"]))
+            side = "above" if temps_c[i] > top else "below"
+            marks.append(f"{by:.1f} °C {side} the fitted range")
         if row["sparse_temperature"]:
             marks.append("few past days this hot/cold")
         flags.append("; ".join(marks))
