@@ -431,14 +431,24 @@ def saved_model_doc():
     """A real saved model as a dict (small fit on a synthetic year), to mutate."""
     model = pytest.importorskip("loadcore.model")
     history_mod = pytest.importorskip("loadcore.history")
+    from loadcore.terms import TermSpec
+
     rng = np.random.default_rng(3)
-    idx = pd.date_range("2029-01-01", periods=365, freq="D", name="date")
+    idx = pd.date_range("2029-01-01", periods=366, freq="D", name="date")
     temp = 15 + 12 * np.sin(2 * np.pi * (idx.dayofyear.to_numpy() - 110) / 365.25)
     demand = 1500 + 6 * (temp - 18) ** 2 + rng.normal(0, 20, len(idx))
     hist = history_mod.history_from_frame(
         pd.DataFrame({"demand": demand, "temperature_c": temp}, index=idx)
     )
-    small = model.FitSettings(max_p=1, max_q=1, max_pq=2, max_P=0, max_Q=0, workers=1)
+    small = model.FitSettings(  # the smallest search: this test is about files, not fits
+        max_p=1,
+        max_q=0,
+        max_pq=1,
+        max_P=0,
+        max_Q=0,
+        workers=1,
+        terms=TermSpec(annual_harmonics=0, trend=False),
+    )
     try:
         fitted = model.fit(hist, small)
     except Exception as err:  # noqa: BLE001 - fitting is tested in test_model.py; here we need a file

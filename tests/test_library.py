@@ -645,13 +645,22 @@ def test_cli_save_with_a_fitted_model(tmp_path, demo_history, capsys):
     """End to end: fit the demo history, save a scenario file through the CLI, list and export it."""
     model_mod = pytest.importorskip("loadcore.model")
     from loadcore.scenario import write_scenario_csv
+    from loadcore.terms import TermSpec
 
     history = demo_history
-    cut = history.frame.iloc[-365:]
+    cut = history.frame.iloc[-366:]
     from loadcore.history import history_from_frame
 
     short = history_from_frame(cut[["demand", "temperature_c"]])
-    small = model_mod.FitSettings(max_p=1, max_q=1, max_pq=2, max_P=0, max_Q=0, workers=1)
+    small = model_mod.FitSettings(  # the smallest search: this test is about files, not fits
+        max_p=1,
+        max_q=0,
+        max_pq=1,
+        max_P=0,
+        max_Q=0,
+        workers=1,
+        terms=TermSpec(annual_harmonics=0, trend=False),
+    )
     try:
         model = model_mod.fit(short, small)
     except Exception as err:  # noqa: BLE001 - fitting is tested in test_model.py
