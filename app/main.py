@@ -85,15 +85,25 @@ with st.sidebar:
         key=state.MEETING,
         help="Shows the comparison large, with the controls hidden, for a projector.",
     )
-    fitted = state.model()
-    if fitted is None:
-        st.caption("Model: none fitted yet")
-    else:
-        st.caption(f"Model: fitted on data to {fitted.history_end.date().isoformat()}")
-    st.caption(f"Scenarios in the set: {len(state.scenarios())}")
+    status = st.container()
+
+
+def _status() -> None:
+    """Model and set status, written after the page ran so a new fit shows at once."""
+    with status:
+        fitted = state.model()
+        if fitted is None:
+            st.caption("Model: none fitted yet")
+        else:
+            st.caption(f"Model: fitted on data to {fitted.history_end.date().isoformat()}")
+        st.caption(f"Scenarios in the set: {len(state.scenarios())}")
+
 
 COMPARE = PAGES["Plan"][3]
 if st.session_state[state.MEETING] and page.url_path != COMPARE.url_path:
     st.switch_page(COMPARE)
 
-page.run()
+try:
+    page.run()
+finally:  # also when a page stops early (st.stop)
+    _status()

@@ -77,6 +77,7 @@ with st.form("fit_form", border=True):
         f"Curve centre, {unit}",
         value=float(np.round(state.to_display(current.terms.reference_temp_c), 1)),
         step=0.5,
+        format="%.1f",
         key="fit_ref",
         help="For the smooth curve: the temperature its slope and bend are measured from.",
     )
@@ -84,12 +85,14 @@ with st.form("fit_form", border=True):
         f"Heating base, {unit}",
         value=float(np.round(state.to_display(current.terms.heating_base_c), 1)),
         step=0.5,
+        format="%.1f",
         key="fit_hdd",
     )
     cool = c.number_input(
         f"Cooling base, {unit}",
         value=float(np.round(state.to_display(current.terms.cooling_base_c), 1)),
         step=0.5,
+        format="%.1f",
         key="fit_cdd",
     )
     with st.expander("Search limits"):

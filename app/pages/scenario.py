@@ -90,6 +90,7 @@ def _from_tools(days: int) -> pd.Series | None:
                 f"Temperature, {unit}",
                 value=float(np.round(state.to_display(25.0), 1)),
                 step=0.5,
+                format="%.1f",
                 key="scn_const",
             )
             path = constant_path(start, days, float(state.from_display(value)))
@@ -114,6 +115,7 @@ def _from_tools(days: int) -> pd.Series | None:
                 f"Peak daily high, {unit}",
                 value=float(np.round(state.to_display(41.0), 1)),
                 step=0.5,
+                format="%.1f",
                 key="scn_hw_peak",
                 disabled=not wave,
             )
@@ -127,6 +129,7 @@ def _from_tools(days: int) -> pd.Series | None:
                 f"Lowest daily high, {unit}",
                 value=float(np.round(state.to_display(-8.0), 1)),
                 step=0.5,
+                format="%.1f",
                 key="scn_cs_low",
                 disabled=not snap,
             )
@@ -138,6 +141,7 @@ def _from_tools(days: int) -> pd.Series | None:
             f"Shift every day by ({unit}, may be negative)",
             value=0.0,
             step=0.5,
+            format="%.1f",
             key="scn_shift",
         )
         if wave:
