@@ -233,7 +233,9 @@ def _cut(history, origin: pd.Timestamp):
 
 def _refit_same_orders(model, cut):
     """Re-estimate the parameters on ``cut`` keeping the model's orders."""
-    return model.refit(cut)
+    from loadcore.model import fit
+
+    return fit(cut, model.settings, orders=model.orders)
 
 
 def _scores_block(
@@ -556,7 +558,7 @@ def add_cli(subparsers) -> argparse.ArgumentParser:
 
     ``backtest HISTORY [--horizon 14] [--origins 20] [--mode ex-post|ex-ante]
     [--search quick|thorough] [--seed S] [--json]``. The command's function is stored as the
-    parser default ``func`` and returns an exit code.
+    parser default ``handler`` and returns an exit code.
     """
     parser = subparsers.add_parser(
         "backtest",
@@ -586,5 +588,5 @@ def add_cli(subparsers) -> argparse.ArgumentParser:
     )
     parser.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
     parser.add_argument("--json", action="store_true", help="print the results as JSON")
-    parser.set_defaults(func=_run_backtest)
+    parser.set_defaults(handler=_run_backtest)
     return parser

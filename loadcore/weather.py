@@ -469,13 +469,17 @@ def pool_trace_paths(
             fix="report this as a bug",
         )
     n_traces = traces.shape[1]
+    calendar = [str(t) for t in model.calendar_types(dates)]
+    given = [str(t) for t in types]
+    # Day types go to the scenario only where they differ from the model's own calendar.
+    scenario_types = None if given == calendar else tuple(given)
     predictors = np.empty((n_traces, horizon))
     for i, name in enumerate(traces.columns):
         scenario = Scenario(
             name=str(name),
             dates=dates,
             temperature_c=traces[name].to_numpy(dtype=float),
-            day_types=types.to_numpy(),
+            day_types=scenario_types,
         )
         predictors[i] = np.asarray(model.linear_predictor(scenario), dtype=float)
         if progress is not None:
@@ -717,7 +721,7 @@ def add_cli(subparsers) -> argparse.ArgumentParser:
 
     ``ensemble MODEL.json --out OUT.csv [--days N] [--shift-days K] [--warming DEGREES]
     [--threshold X] [--paths M] [--seed S] [--json]``. The command's function is stored as the
-    parser default ``func`` and returns an exit code.
+    parser default ``handler`` and returns an exit code.
     """
     parser = subparsers.add_parser(
         "ensemble",
@@ -754,5 +758,5 @@ def add_cli(subparsers) -> argparse.ArgumentParser:
     parser.add_argument(
         "--json", action="store_true", help="print the window figures as JSON instead of text"
     )
-    parser.set_defaults(func=_run_ensemble)
+    parser.set_defaults(handler=_run_ensemble)
     return parser
