@@ -363,10 +363,19 @@ def _labelled(label: str, text: str) -> str:
 
 
 def _table_text(table: Any) -> str:
-    to_string = getattr(table, "to_string", None)
-    if callable(to_string):
-        return to_string(float_format=lambda v: f"{v:.5g}")
-    return str(table)
+    """A coefficient table as text: numbers to 5 significant digits, text left-aligned."""
+    import pandas as pd
+
+    if not isinstance(table, pd.DataFrame):
+        return str(table)
+    formatters: dict[str, Callable[[Any], str]] = {}
+    for col in table.columns:
+        if pd.api.types.is_numeric_dtype(table[col]) and not pd.api.types.is_bool_dtype(table[col]):
+            formatters[col] = lambda v: f"{v:.5g}"
+        else:
+            width = max([len(str(col)), *(len(str(v)) for v in table[col])])
+            formatters[col] = lambda v, w=width: f"{str(v):<{w}}"
+    return table.to_string(index=False, formatters=formatters, justify="left")
 
 
 # ---------------------------------------------------------------------------------------------------
