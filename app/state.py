@@ -155,6 +155,38 @@ def scenarios() -> dict:
 
 
 # --------------------------------------------------------------------------------------------
+# Fitting: one shared store keyed by the data fingerprint and the settings
+# --------------------------------------------------------------------------------------------
+
+FITS_KEPT = 4
+
+
+@st.cache_resource(show_spinner=False)
+def _fitted_store() -> dict:
+    """Fitted models shared by every session, (history fingerprint, settings key) -> model.
+
+    A store rather than a cached fit, so the fit can report progress to the page (a cached
+    function may not update an element made outside it).
+    """
+    return {}
+
+
+def fit_model(history, settings, progress=None):
+    """``loadcore.model.fit(history, settings, progress)``, reused for the same data and settings."""
+    from loadcore.model import fit
+
+    store = _fitted_store()
+    key = (history.fingerprint, settings.key())
+    if key in store:
+        return store[key]
+    fitted = fit(history, settings, progress=progress)
+    store[key] = fitted
+    while len(store) > FITS_KEPT:
+        store.pop(next(iter(store)))
+    return fitted
+
+
+# --------------------------------------------------------------------------------------------
 # Forecasts: cached per (model, scenario) so a redraw never recomputes an unchanged forecast
 # --------------------------------------------------------------------------------------------
 

@@ -10,7 +10,7 @@ import streamlit as st
 from app import charts, state
 from loadcore.errors import LoadcoreError
 from loadcore.export import check_upload_size
-from loadcore.model import FitSettings, fit, load_model
+from loadcore.model import FitSettings, load_model
 from loadcore.terms import TermSpec
 
 st.title("Model")
@@ -134,7 +134,7 @@ if go:
             bar.progress(min(done / max(total, 1), 1.0), text=f"{done} of {total} done: {text}")
 
         try:
-            fitted = fit(history, settings, progress=_progress)
+            fitted = state.fit_model(history, settings, progress=_progress)
         except LoadcoreError as exc:
             bar.empty()
             state.show_error(exc, "The model could not be fitted")
