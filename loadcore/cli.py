@@ -720,6 +720,14 @@ def _exit_code(code: Any) -> int:
     return 1
 
 
+def _silence_stdout() -> None:
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+    except (OSError, ValueError, AttributeError):
+        log.debug("stdout could not be redirected after a broken pipe")
+
+
 def _os_error_text(exc: OSError) -> str:
     name = exc.filename or "the file"
     if isinstance(exc, FileNotFoundError):
@@ -776,6 +784,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         _error_line(text)
     except LoadcoreError as err:
         _error_line(str(err))
+    except BrokenPipeError:
+        # The reader of our output went away (e.g. `loadcore ... | head`): stop quietly.
+        _silence_stdout()
+        return 1
     except OSError as err:
         _error_line(_os_error_text(err))
     except json.JSONDecodeError as err:

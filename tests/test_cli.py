@@ -411,3 +411,25 @@ def test_benchmark_runner_writes_results_and_fails_on_a_failed_benchmark(tmp_pat
     (tmp_path / "bench_crash.py").write_text("def run():\n    raise OSError('disk')\n")
     assert runner.main(["crash"], directory=tmp_path) == 1
     assert "disk" in json.loads((tmp_path / "results" / "crash.json").read_text())["error"]
+
+
+@pytest.mark.slow
+def test_forecast_day_type_column_overrides_the_calendar(fitted, tmp_path, capsys):
+    from loadcore.model import load_model
+
+    model = load_model(fitted["out"])
+    start = pd.Timestamp(model.history_end) + pd.Timedelta(days=1)
+    scen = tmp_path / "with_types.csv"
+    dates = pd.date_range(start, periods=7)
+    rows = ["date,temperature,day_type"]
+    rows += [f"{d:%Y-%m-%d},12.5,{'holiday' if i == 2 else ''}" for i, d in enumerate(dates)]
+    scen.write_text("\n".join(rows) + "\n")
+    out = tmp_path / "typed.csv"
+    assert main(["forecast", str(fitted["out"]), str(scen), "--out", str(out)]) == 0, (
+        capsys.readouterr().err
+    )
+    table = pd.read_csv(out)
+    calendar = list(model.calendar_types(dates))
+    expected = calendar[:2] + ["holiday"] + calendar[3:]
+    assert table["day_type"].tolist() == expected
+    assert not table["out_of_range"].any()
