@@ -399,9 +399,8 @@ def backtest(
         if mode == "ex_post":
             from loadcore.scenario import Scenario
 
-            scenario = Scenario(
-                name=f"backtest {origin.date()}", dates=target, temperature_c=temps, day_types=types
-            )
+            # Day types left to the model's own calendar (the same one ``types`` came from).
+            scenario = Scenario(name=f"backtest {origin.date()}", dates=target, temperature_c=temps)
             fc = model.forecast(scenario, levels=tuple(lv for lv, _, _ in level_probs)).frame
             table["mean"] = fc["mean"].to_numpy(dtype=float)
             table["median"] = fc["median"].to_numpy(dtype=float)
