@@ -252,6 +252,21 @@ def _require_file(path: str, what: str) -> None:
         )
 
 
+def _require_folder(out: str) -> None:
+    """Fail before long work when the output file's folder does not exist."""
+    target = Path(out)
+    if target.is_dir():
+        raise LoadcoreError(
+            "The output path is a folder", where=str(target), fix="Give a file name inside it"
+        )
+    if not target.parent.is_dir():
+        raise LoadcoreError(
+            "The folder for the output file does not exist",
+            where=str(target.parent),
+            fix="Create the folder first or write somewhere else",
+        )
+
+
 # ---------------------------------------------------------------------------------------------------
 # fit
 
@@ -321,6 +336,7 @@ def _run_fit(args: argparse.Namespace) -> int:
     from loadcore.model import fit
 
     _require_file(args.history, "history file")
+    _require_folder(args.out)
     settings = _fit_settings(args)
     history = read_history(args.history, _history_settings(args))
     bar = ProgressBar("candidates")
@@ -460,6 +476,7 @@ def _run_forecast(args: argparse.Namespace) -> int:
 
     _require_file(args.model, "model file")
     _require_file(args.scenario, "scenario file")
+    _require_folder(args.out)
     model = load_model(args.model)
     scenario = read_scenario_csv(
         args.scenario,

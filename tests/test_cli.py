@@ -125,6 +125,12 @@ def test_bad_model_json_is_one_line(tmp_path, capsys):
     _one_error_line(capsys.readouterr().err)
 
 
+def test_missing_output_folder_is_caught_before_fitting(tmp_path, capsys):
+    code = main(["fit", str(DEMO), "--out", str(tmp_path / "no_such_folder" / "m.json")])
+    assert code == 1
+    assert "no_such_folder" in _one_error_line(capsys.readouterr().err)
+
+
 def test_usage_mistakes_exit_2(capsys):
     assert main(["forecast", "m.json", "s.csv", "--out", "f.csv", "--levels", "80,120"]) == 2
     assert "between 0 and 100" in capsys.readouterr().err
