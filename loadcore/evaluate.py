@@ -23,7 +23,6 @@ import argparse
 import json
 import logging
 import math
-import sys
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -511,11 +510,11 @@ def _describe_orders(model) -> str:
 # Command line
 
 
-def _cli_progress(done: int, total: int, text: str) -> None:
-    sys.stderr.write(f"\r{done}/{total} {text}".ljust(70))
-    if done == total:
-        sys.stderr.write("\n")
-    sys.stderr.flush()
+def _cli_progress():
+    """The CLI's progress bar (stderr); imported late because the CLI imports this module."""
+    from loadcore.cli import ProgressBar
+
+    return ProgressBar("origins")
 
 
 def _json_ready(value):
@@ -538,7 +537,7 @@ def _run_backtest(args: argparse.Namespace) -> int:
         origins=args.origins,
         mode=args.mode,
         seed=args.seed,
-        progress=None if args.json else _cli_progress,
+        progress=None if args.json else _cli_progress(),
     )
     if args.json:
         table = result.by_horizon.astype(object).map(_json_ready)

@@ -20,7 +20,6 @@ from __future__ import annotations
 import argparse
 import json
 import logging
-import sys
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -668,11 +667,11 @@ def ensemble_table(result: EnsembleResult) -> pd.DataFrame:
     return result.daily[columns].copy()
 
 
-def _cli_progress(done: int, total: int, text: str) -> None:
-    sys.stderr.write(f"\r{done}/{total} {text}   ")
-    if done == total:
-        sys.stderr.write("\n")
-    sys.stderr.flush()
+def _cli_progress():
+    """The CLI's progress bar (stderr); imported late because the CLI imports this module."""
+    from loadcore.cli import ProgressBar
+
+    return ProgressBar("traces")
 
 
 def _run_ensemble(args: argparse.Namespace) -> int:
@@ -687,7 +686,7 @@ def _run_ensemble(args: argparse.Namespace) -> int:
         paths_per_trace=args.paths,
         seed=args.seed,
         threshold_mw=args.threshold,
-        progress=None if args.json else _cli_progress,
+        progress=None if args.json else _cli_progress(),
     )
     _write_csv(ensemble_table(result), args.out)
     if args.json:
