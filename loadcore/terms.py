@@ -1,0 +1,162 @@
+"""Regressors for the demand model: temperature response, day types, annual terms, growth.
+
+The regression is on log demand (or demand) and every column here is built by one function,
+:func:`design_matrix`, for history and future dates alike, so that a scenario is always described
+by exactly the columns the model was fitted with.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+
+import numpy as np
+import pandas as pd
+
+from .errors import InputError
+
+#: Temperature terms are (T - reference) / 10 and its square, so both are of order one and the
+#: optimiser sees well-scaled columns (common practice, no source).
+TEMP_SCALE_C = 10.0
+
+#: Days per year for the annual Fourier terms and the growth term (common practice, no source).
+DAYS_PER_YEAR = 365.25
+
+RESPONSES = ("quadratic", "degree_days")
+
+
+@dataclass(frozen=True)
+class TermSpec:
+    """Which regressors describe the temperature and calendar response.
+
+    Parameters
+    ----------
+    response : {"quadratic", "degree_days"}
+        ``quadratic``: centred temperature and its square. ``degree_days``: heating degrees below
+        ``heating_base_c`` and cooling degrees above ``cooling_base_c`` (°C), flat in between.
+    reference_temp_c : float
+        Centre of the quadratic terms, °C.
+    heating_base_c, cooling_base_c : float
+        Degree-day bases, °C (18 °C is the usual heating base; common practice, no source).
+    annual_harmonics : int
+        Number of annual Fourier pairs (cos, sin) for seasonal effects beyond temperature.
+    trend : bool
+        Include a slow-growth term (years since the start of the history).
+    """
+
+    response: str = "quadratic"
+    reference_temp_c: float = 18.0
+    heating_base_c: float = 18.0
+    cooling_base_c: float = 24.0
+    annual_harmonics: int = 2
+    trend: bool = True
+
+    def __post_init__(self) -> None:
+        if self.response not in RESPONSES:
+            raise InputError(
+                f"Unknown temperature response '{self.response}'",
+                where="model settings",
+                fix=f"Use one of: {', '.join(RESPONSES)}",
+            )
+        if not 0 <= int(self.annual_harmonics) <= 6:
+            raise InputError(
+                f"annual_harmonics must be between 0 and 6, got {self.annual_harmonics}",
+                where="model settings",
+                fix="Use 0 (no annual terms) to 6",
+            )
+        if self.response == "degree_days" and self.cooling_base_c < self.heating_base_c:
+            raise InputError(
+                "The cooling base is below the heating base",
+                where=f"heating {self.heating_base_c} °C, cooling {self.cooling_base_c} °C",
+                fix="Set the cooling base at or above the heating base",
+            )
+
+    def to_dict(self) -> dict:
+        return asdict(self)
+
+    @classmethod
+    def from_dict(cls, data: dict) -> TermSpec:
+        return cls(**data)
+
+    def temperature_columns(self) -> tuple[str, ...]:
+        return ("temp", "temp_sq") if self.response == "quadratic" else ("hdd", "cdd")
+
+
+def type_column(day_type: str) -> str:
+    """Name of the indicator column for a day type."""
+    return f"type_{day_type}"
+
+
+def temperature_terms(temperature_c: np.ndarray, spec: TermSpec) -> dict[str, np.ndarray]:
+    """Temperature regressors for daily temperatures in °C."""
+    t = np.asarray(temperature_c, dtype=float)
+    if spec.response == "quadratic":
+        x = (t - spec.reference_temp_c) / TEMP_SCALE_C
+        return {"temp": x, "temp_sq": x * x}
+    return {
+        "hdd": np.maximum(spec.heating_base_c - t, 0.0),
+        "cdd": np.maximum(t - spec.cooling_base_c, 0.0),
+    }
+
+
+def design_matrix(
+    dates: pd.DatetimeIndex,
+    temperature_c: np.ndarray,
+    day_types: pd.Series | np.ndarray | list,
+    spec: TermSpec,
+    *,
+    levels: tuple[str, ...],
+    base_type: str,
+    origin: pd.Timestamp,
+    intercept: bool,
+) -> pd.DataFrame:
+    """Build the regression columns for the given dates.
+
+    Parameters
+    ----------
+    dates : DatetimeIndex
+        Daily dates.
+    temperature_c : array
+        Daily temperature, °C.
+    day_types : sequence of str
+        Day type of every date.
+    spec : TermSpec
+        Regressor choice.
+    levels : tuple of str
+        Day types the model has indicator columns for (the base type excluded).
+    base_type : str
+        The reference day type; its effect is in the intercept.
+    origin : Timestamp
+        Date where the growth term is zero (the first day of the fitted history).
+    intercept : bool
+        Include a constant (not identified when the errors are differenced).
+
+    Returns
+    -------
+    DataFrame indexed by ``dates``.
+    """
+    dates = pd.DatetimeIndex(dates)
+    types = np.asarray(day_types, dtype=object)
+    known = set(levels) | {base_type}
+    unknown = sorted({str(t) for t in types} - known)
+    if unknown:
+        first = dates[np.isin(types, unknown)][0].date().isoformat()
+        raise InputError(
+            f"Day type '{unknown[0]}' was not seen in the fitted history",
+            where=f"first on {first}",
+            fix=f"Use one of: {', '.join(sorted(known))}, or refit with this type in the history",
+        )
+    cols: dict[str, np.ndarray] = {}
+    if intercept:
+        cols["const"] = np.ones(len(dates))
+    if spec.trend:
+        cols["trend_years"] = (dates - origin).days.to_numpy(dtype=float) / DAYS_PER_YEAR
+    cols.update(temperature_terms(temperature_c, spec))
+    for level in levels:
+        cols[type_column(level)] = (types == level).astype(float)
+    if spec.annual_harmonics:
+        doy = dates.dayofyear.to_numpy(dtype=float)
+        for k in range(1, int(spec.annual_harmonics) + 1):
+            angle = 2.0 * np.pi * k * doy / DAYS_PER_YEAR
+            cols[f"annual_cos{k}"] = np.cos(angle)
+            cols[f"annual_sin{k}"] = np.sin(angle)
+    return pd.DataFrame(cols, index=dates)
