@@ -33,6 +33,7 @@ Every page writes a key only after the loadcore call producing the new value suc
 
 from __future__ import annotations
 
+import logging
 import sys
 from pathlib import Path
 
@@ -43,6 +44,8 @@ if str(_REPO) not in sys.path:
 import streamlit as st  # noqa: E402
 
 from app import state  # noqa: E402
+
+logger = logging.getLogger("loadcore.app")
 
 st.set_page_config(
     page_title="loadcore planner",
@@ -105,5 +108,8 @@ if st.session_state[state.MEETING] and page.url_path != COMPARE.url_path:
 
 try:
     page.run()
+except Exception:  # a fault in the code, not the user's input: say so, keep the details in the log
+    logger.exception("the page %r failed", page.title)
+    st.error(state.INTERNAL_ERROR)
 finally:  # also when a page stops early (st.stop)
     _status()

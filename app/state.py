@@ -49,6 +49,10 @@ CAUTION = (
     "loadcore is a planning aid, not an operating or reliability-compliance tool. Defer to the "
     "system operator's procedures, local reliability standards and licensed engineering judgement."
 )
+INTERNAL_ERROR = (
+    "Something went wrong on this page. That is a fault in loadcore, not in your input; your "
+    "history, model and scenarios are unchanged. Please report it (the server log has the details)."
+)
 HEAT_NOTE = (
     "Public safety: this scenario has days at or above {limit} with highs up to {peak}. Heat of this "
     "kind brings a risk of heat-related illness; check the operator's emergency procedures and the "

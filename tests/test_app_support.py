@@ -106,8 +106,11 @@ def texts(at: AppTest, kind: str) -> list[str]:
 
 
 def assert_no_exception(at: AppTest) -> None:
-    """No uncaught exception reached the page."""
+    """No exception reached the page, neither uncaught nor caught by the app's last-resort guard."""
+    from app.state import INTERNAL_ERROR
+
     assert not at.exception, [e.value for e in at.exception]
+    assert INTERNAL_ERROR not in texts(at, "error"), "a page failed; see the log for the traceback"
 
 
 class _RecordingStorage(MemoryMediaFileStorage):
