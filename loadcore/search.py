@@ -146,7 +146,9 @@ def kpss_statistic(x: np.ndarray) -> tuple[float, float]:
 
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")  # p-value outside the table: we use the statistic
-        stat, _pvalue, _lags, crit = kpss(np.asarray(x, float), regression="c", nlags="auto")
+        stat, _pvalue, _lags, crit = kpss(
+            np.asarray(x, float), regression="c", nlags="auto", result_object=False
+        )
     return float(stat), float(crit["5%"])
 
 

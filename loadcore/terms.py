@@ -154,7 +154,7 @@ def design_matrix(
     for level in levels:
         cols[type_column(level)] = (types == level).astype(float)
     if spec.annual_harmonics:
-        doy = dates.dayofyear.to_numpy(dtype=float)
+        doy = dates.day_of_year.to_numpy(dtype=float)
         for k in range(1, int(spec.annual_harmonics) + 1):
             angle = 2.0 * np.pi * k * doy / DAYS_PER_YEAR
             cols[f"annual_cos{k}"] = np.cos(angle)
