@@ -207,8 +207,6 @@ def test_scenario_colours_wrap_around():
 @pytest.mark.parametrize("unit", ["C", "F"])
 def test_temperature_helpers_round_trip(unit):
     """°F conversion is loadcore's (scenario.c_to_f / f_to_c); the app only chooses the unit."""
-    from streamlit.testing.v1 import AppTest as _AppTest
-
     script = f"""
 import streamlit as st
 from app import state
@@ -218,7 +216,7 @@ shown = [float(state.to_display(v)) for v in values]
 back = [float(state.from_display(v)) for v in shown]
 st.session_state["out"] = (shown, back, state.delta_to_display(5.0), state.fmt_temp(100.0))
 """
-    at = _AppTest.from_string(script, default_timeout=60)
+    at = AppTest.from_string(script, default_timeout=60)
     at.run()
     assert_no_exception(at)
     shown, back, delta, text = at.session_state["out"]
