@@ -299,6 +299,10 @@ def show_error(exc: LoadcoreError, what: str | None = None) -> None:
     st.error(f"{lead}{exc}")
     report = getattr(exc, "report", None) if isinstance(exc, HistoryError) else None
     if report is not None and len(report.issues):
+        st.caption(
+            "The file has errors, so nothing was changed. Each line below names the row, date or "
+            "column and how to fix it; warnings and notes are listed too."
+        )
         st.dataframe(report.to_frame(), hide_index=True, width="stretch")
 
 

@@ -112,3 +112,22 @@ def test_a_shutdown_override_becomes_its_own_day_type():
     assert [o.day_type for o in spec.overrides] == ["shutdown"]
     shown = at.dataframe[-1].value
     assert int(shown["shutdown"].iloc[0]) == 5
+
+
+def test_warnings_are_listed_and_every_changed_row_is_visible():
+    frame = pd.read_csv(DEMO_CSV).iloc[-800:].reset_index(drop=True)
+    frame.loc[100:101, "temperature"] = None  # a two-day temperature gap: filled in, warned
+    frame.loc[300, "demand"] = None  # a blank demand cell: kept missing, warned
+    data = frame.to_csv(index=False).encode()
+    expected = read_history(data, HistorySettings())
+    at = new_app(page="pages/history.py")
+    _upload(at, data, "gappy.csv")
+    assert_no_exception(at)
+    assert at.session_state["history"].fingerprint == expected.fingerprint
+    listed = " ".join(texts(at, "markdown"))
+    for issue in expected.report.warnings:
+        assert issue.message in listed
+    changed = at.dataframe[1].value  # the "rows changed or missing" table
+    shown = {pd.Timestamp(d).date().isoformat() for d in changed.index}
+    for day in (frame.loc[100, "date"], frame.loc[101, "date"], frame.loc[300, "date"]):
+        assert day in shown
