@@ -207,8 +207,9 @@ class CalendarSpec:
 
     Parameters
     ----------
-    country : str
-        ISO 3166-1 alpha-2 code for the public-holiday calendar.
+    country : str or None
+        ISO 3166-1 alpha-2 code for the public-holiday calendar; None or "" for no public
+        holidays (weekends and overrides only).
     subdivision : str or None
         Optional state or province code (e.g. ``"TX"``).
     scheme : {"simple", "detailed"}
@@ -217,17 +218,20 @@ class CalendarSpec:
         User-set dates or ranges; later overrides win over earlier ones where they overlap.
     """
 
-    country: str = "US"
+    country: str | None = "US"
     subdivision: str | None = None
     scheme: str = "detailed"
     overrides: tuple[Override, ...] = field(default_factory=tuple)
 
     def __post_init__(self) -> None:
-        country = str(self.country).strip().upper()
+        country = str(self.country or "").strip().upper() or None
         subdivision = self.subdivision
         if subdivision is not None:
             subdivision = str(subdivision).strip().upper() or None
-        _check_country(country, subdivision)
+        if country is None:
+            subdivision = None
+        else:
+            _check_country(country, subdivision)
         if self.scheme not in SCHEMES:
             raise InputError(
                 f"Unknown day-type scheme {self.scheme!r}",
@@ -304,6 +308,8 @@ def _holiday_lookup(index: pd.DatetimeIndex, spec: CalendarSpec) -> tuple[np.nda
     days = index.values.astype("datetime64[D]")
     if len(days) == 0:
         return np.zeros(0, dtype=bool), np.zeros(0, dtype=int)
+    if spec.country is None:
+        return np.zeros(len(days), dtype=bool), np.full(len(days), -1)
     years = tuple(range(int(index.year.min()), int(index.year.max()) + 1))
     hol_days, _ = _holiday_table(spec.country, spec.subdivision, years)
     if len(hol_days) == 0:

@@ -664,7 +664,7 @@ class FittedModel:
                 where=f"{dates[i]:%Y-%m-%d}",
                 fix="Enter a temperature for every day",
             )
-        types = self.calendar_types(dates).to_numpy(dtype=object)
+        types = np.array(self.calendar_types(dates).to_numpy(dtype=object), dtype=object)
         given = getattr(scenario, "day_types", None)
         if given is not None:
             given = np.asarray(list(given), dtype=object)
