@@ -96,3 +96,22 @@ def test_a_bad_setting_is_refused_before_fitting():
     errors = texts(at, "error")
     assert errors and errors[0].startswith("These settings cannot be used")
     assert at.session_state["model"] is model
+
+
+def test_the_app_opens_ready_on_a_matching_pre_fitted_demo_model(tmp_path, monkeypatch):
+    import app.state as app_state
+
+    model, _ = fitted_through_app()
+    path = tmp_path / "demo_model.json"
+    model.save(path)
+    monkeypatch.setattr(app_state, "DEMO_MODEL", path)
+    app_state.demo_model.clear()
+    try:
+        at = new_app(page="pages/scenario.py")  # nothing seeded: the app loads what it finds
+        assert_no_exception(at)
+        assert at.session_state["model"].fingerprint == model.fingerprint
+        assert at.session_state["fit_settings"] == model.settings
+        assert [t.value for t in at.title] == ["Build a scenario"]
+        assert at.data_editor, "the scenario builder is ready without a fit"
+    finally:
+        app_state.demo_model.clear()
