@@ -69,18 +69,19 @@ def _grid_baseline(history, model, seed: int = 0) -> dict:
 
 def _peak_memory_mb() -> float:
     """Peak resident memory of a thorough fit in a fresh process, workers included."""
+    root, csv = str(ROOT), str(ROOT / "demo_data" / "history.csv")
     code = (
-        "import resource, sys; sys.path.insert(0, %r)\n"
+        f"import resource, sys; sys.path.insert(0, {root!r})\n"
         "from loadcore.history import read_history\n"
         "from loadcore.model import fit, FitSettings\n"
-        "h = read_history(%r)\n"
+        f"h = read_history({csv!r})\n"
         "fit(h, FitSettings(search='thorough'))\n"
         "import loadcore.search as s\n"
         "s._POOL and s._POOL.shutdown()\n"
         "me = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
         "kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
         "print(me + kids)\n"
-    ) % (str(ROOT), str(ROOT / "demo_data" / "history.csv"))
+    )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     return float(out.stdout.strip().splitlines()[-1]) / 1024.0  # ru_maxrss is in KiB on Linux
 
