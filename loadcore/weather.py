@@ -611,7 +611,9 @@ def ensemble_forecast(
         f"{n_traces} temperature traces from past years (shifts up to {shift_days} day(s)"
         f"{f', warming {warming_c:+.1f} °C' if warming_c else ''}"
         f"{f', blended {blend_weight:.0%} toward a planner path' if blend_path is not None and blend_weight else ''}"
-        f") x {n_each} error paths each. {CAUTION}"
+        f") x {n_each} error paths each. The weather spread covers only the years in the "
+        "history: a hotter or colder spell than any of them is not in it, so with few years the "
+        f"bands are likely too narrow. {CAUTION}"
     )
     return EnsembleResult(
         daily=daily,
