@@ -265,11 +265,6 @@ def test_ensemble_input_errors(model):
         ensemble_forecast(model, days=7, day_types=["midweek"] * 3)
 
 
-@pytest.mark.xfail(
-    raises=ValueError,
-    reason="model.py _scenario_inputs writes into a read-only calendar array (pandas 3); "
-    "reported to the model owner",
-)
 def test_ensemble_with_planner_day_types(model):
     """Day types given by the planner replace the calendar's: a window of Sundays is lower."""
     base = ensemble_forecast(model, days=7, paths_per_trace=20, seed=3)
