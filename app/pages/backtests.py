@@ -131,6 +131,13 @@ st.caption(
     "well-calibrated intervals; a U shape means intervals too narrow, a hump too wide."
 )
 with st.expander("Every backtest forecast"):
-    st.dataframe(pd.DataFrame(result.forecasts), hide_index=True, width="stretch")
+    table = pd.DataFrame(result.forecasts)
+    if "temperature_c" in table.columns:
+        table.insert(
+            list(table.columns).index("temperature_c"),
+            f"temperature, {state.unit_symbol()}",
+            state.to_display(table.pop("temperature_c").to_numpy(dtype=float)),
+        )
+    st.dataframe(table, hide_index=True, width="stretch")
 st.caption(summary.get("note", ""))
 state.footer()
