@@ -70,13 +70,13 @@ EX_POST_PATHS = 1000
 def _check_int(value, name: str, low: int, high: int) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
         raise InputError(
-            f"{name} must be a whole number, got {value!r}", where=name, fix=f"use e.g. {low}"
+            f"{name} must be a whole number, got {value!r}", where=name, fix=f"Use e.g. {low}"
         )
     if not low <= value <= high:
         raise InputError(
             f"{name} must be between {low} and {high}, got {value}",
             where=name,
-            fix=f"use a value between {low} and {high}",
+            fix=f"Use a value between {low} and {high}",
         )
     return int(value)
 
@@ -87,7 +87,7 @@ def _normal_mode(mode: str) -> str:
         raise InputError(
             f"unknown backtest mode {mode!r}",
             where="mode",
-            fix="use ex_post (actual temperatures) or ex_ante (weather ensembles)",
+            fix="Use ex_post (actual temperatures) or ex_ante (weather ensembles)",
         )
     return key
 
@@ -100,7 +100,7 @@ def _level_probs(levels: Sequence[float]) -> list[tuple[float, float, float]]:
             raise InputError(
                 f"interval level {level} is outside (0, 100)",
                 where="levels",
-                fix="give levels in percent, such as 80 and 95",
+                fix="Give levels in percent, such as 80 and 95",
             )
         out.append((value, (1.0 - value / 100.0) / 2.0, (1.0 + value / 100.0) / 2.0))
     return out
@@ -322,10 +322,10 @@ def backtest(
     origins = _check_int(origins, "origins", 1, 500)
     mode = _normal_mode(mode)
     if refit not in REFITS:
-        raise InputError(f"unknown refit choice {refit!r}", where="refit", fix="use none or params")
+        raise InputError(f"unknown refit choice {refit!r}", where="refit", fix="Use none or params")
     level_probs = _level_probs(levels)
     if not level_probs:
-        raise InputError("no interval level given", where="levels", fix="give e.g. 80 and 95")
+        raise InputError("no interval level given", where="levels", fix="Give e.g. 80 and 95")
     shift_days = _check_int(shift_days, "shift_days", 0, 30)
     paths_per_trace = _check_int(paths_per_trace, "paths_per_trace", 10, 100_000)
 
@@ -334,7 +334,7 @@ def backtest(
     observed = demand.dropna()
     if observed.empty:
         raise InputError(
-            "the history has no demand values", where="demand", fix="load a history with demand"
+            "the history has no demand values", where="demand", fix="Load a history with demand"
         )
     end = observed.index.max()
     start = frame.index.min()
@@ -344,7 +344,7 @@ def backtest(
             f"the history has {int((end - start).days) + 1} days; a backtest needs at least "
             f"{MIN_FIT_DAYS + horizon + 1}",
             where=f"history {start.date()} to {end.date()}",
-            fix=f"use a longer history or a horizon under {max(int((end - start).days) - MIN_FIT_DAYS, 1)} days",
+            fix=f"Use a longer history or a horizon under {max(int((end - start).days) - MIN_FIT_DAYS, 1)} days",
         )
     span = DEFAULT_SPAN_DAYS if span_days is None else _check_int(span_days, "span_days", 0, 36_600)
     if span > available:
@@ -352,7 +352,7 @@ def backtest(
             raise InputError(
                 f"a span of {span} days leaves less than {MIN_FIT_DAYS} days to fit on",
                 where="span_days",
-                fix=f"use a span of at most {available} days",
+                fix=f"Use a span of at most {available} days",
             )
         span = available
     if origins > 1 and span == 0:
@@ -419,7 +419,7 @@ def backtest(
                 raise InputError(
                     "not enough past years before a backtest origin to build weather traces",
                     where=f"origin {origin.date()}",
-                    fix="use fewer origins, a shorter span, or ex-post mode",
+                    fix="Use fewer origins, a shorter span, or ex-post mode",
                 ) from exc
             cube = pool_trace_paths(
                 model, traces, day_types=types, paths_per_trace=paths_per_trace, seed=seed + i
@@ -488,7 +488,7 @@ def _forecast_column(frame: pd.DataFrame, side: str, level: float) -> str:
     raise LoadcoreError(
         f"the forecast has no {side} bound for the {level:g} % level",
         where="forecast",
-        fix="report this as a bug",
+        fix="Report this as a bug",
     )
 
 

@@ -50,7 +50,7 @@ def _as_float(values, name: str) -> np.ndarray:
         raise InputError(
             f"{name} must be numbers",
             where=name,
-            fix="pass a list or array of numbers",
+            fix="Pass a list or array of numbers",
         ) from exc
     return array
 
@@ -62,7 +62,7 @@ def _pair(actual, predicted) -> tuple[np.ndarray, np.ndarray]:
         raise InputError(
             f"actual has shape {y.shape} but predicted has shape {f.shape}",
             where="scores",
-            fix="pass one prediction for every actual value",
+            fix="Pass one prediction for every actual value",
         )
     return y, f
 
@@ -116,7 +116,7 @@ def seasonal_naive_mae(insample, lag: int = WEEK_LAG) -> float:
         raise InputError(
             f"need more than {lag} in-sample values to scale MASE, got {x.size}",
             where="insample",
-            fix="use a longer history",
+            fix="Use a longer history",
         )
     return mae(x[lag:], x[:-lag])
 
@@ -132,7 +132,7 @@ def mase(actual, predicted, insample, lag: int = WEEK_LAG) -> float:
         raise InputError(
             "the in-sample seasonal-naive error is zero, so MASE has no scale",
             where="insample",
-            fix="check the history: demand repeats exactly every week",
+            fix="Check the history: demand repeats exactly every week",
         )
     return mae(actual, predicted) / scale
 
@@ -147,7 +147,7 @@ def pinball_loss(actual, quantile_forecast, prob: float) -> float:
         raise InputError(
             f"quantile level {prob} is outside (0, 1)",
             where="prob",
-            fix="use a level such as 0.1 or 0.9",
+            fix="Use a level such as 0.1 or 0.9",
         )
     y, q = _pair(actual, quantile_forecast)
     diff = y - q
@@ -173,7 +173,7 @@ def sample_quantiles(samples, probs, axis: int = -1) -> np.ndarray:
     x = np.moveaxis(x, axis, -1)
     p = _as_float(probs, "probs").ravel()
     if p.size and (p.min() < 0 or p.max() > 1):
-        raise InputError("quantile levels must lie in [0, 1]", where="probs", fix="use e.g. 0.1")
+        raise InputError("quantile levels must lie in [0, 1]", where="probs", fix="Use e.g. 0.1")
     m = x.shape[-1]
     pos = (m - 1) * p
     lo = np.floor(pos).astype(int)
@@ -207,7 +207,7 @@ def crps_ensemble(samples, actual) -> np.ndarray:
         raise InputError(
             f"samples have shape {x.shape} but actual has shape {y.shape}",
             where="crps_ensemble",
-            fix="put the ensemble members on the last axis",
+            fix="Put the ensemble members on the last axis",
         )
     m = x.shape[-1]
     first = np.abs(x - y[..., None]).mean(axis=-1)
@@ -236,7 +236,7 @@ def crps_normal(mean, sd, actual) -> np.ndarray:
     s = _as_float(sd, "sd")
     y = _as_float(actual, "actual")
     if np.any(s <= 0):
-        raise InputError("standard deviation must be positive", where="sd", fix="pass sd > 0")
+        raise InputError("standard deviation must be positive", where="sd", fix="Pass sd > 0")
     z = (y - mu) / s
     return s * (z * (2.0 * _norm_cdf(z) - 1.0) + 2.0 * _norm_pdf(z) - 1.0 / np.sqrt(np.pi))
 
@@ -258,7 +258,7 @@ def pit_ensemble(samples, actual) -> np.ndarray:
         raise InputError(
             f"samples have shape {x.shape} but actual has shape {y.shape}",
             where="pit_ensemble",
-            fix="put the ensemble members on the last axis",
+            fix="Put the ensemble members on the last axis",
         )
     below = (x < y[..., None]).sum(axis=-1)
     equal = (x == y[..., None]).sum(axis=-1)
@@ -275,7 +275,7 @@ def pit_histogram(pit, bins: int = 10) -> tuple[np.ndarray, np.ndarray]:
     edges : ndarray of float, shape (bins + 1,)
     """
     if bins < 1:
-        raise InputError("a PIT histogram needs at least one bin", where="bins", fix="use 10")
+        raise InputError("a PIT histogram needs at least one bin", where="bins", fix="Use 10")
     values = _as_float(pit, "pit").ravel()
     values = values[np.isfinite(values)]
     counts, edges = np.histogram(values, bins=bins, range=(0.0, 1.0))
@@ -291,7 +291,7 @@ def interval_coverage(actual, lower, upper) -> float:
         raise InputError(
             "actual, lower and upper must have the same shape",
             where="interval_coverage",
-            fix="pass one bound pair per actual value",
+            fix="Pass one bound pair per actual value",
         )
     keep = np.isfinite(y)
     if not keep.any():

@@ -74,10 +74,10 @@ def _timestamp(value, name: str) -> pd.Timestamp:
         stamp = pd.Timestamp(value)
     except (TypeError, ValueError) as exc:
         raise InputError(
-            f"{value!r} is not a date", where=name, fix="give a date such as 2026-12-01"
+            f"{value!r} is not a date", where=name, fix="Give a date such as 2026-12-01"
         ) from exc
     if stamp is pd.NaT:
-        raise InputError("the date is missing", where=name, fix="give a date such as 2026-12-01")
+        raise InputError("the date is missing", where=name, fix="Give a date such as 2026-12-01")
     return stamp.normalize()
 
 
@@ -97,12 +97,12 @@ def _check_int(value, name: str, low: int, high: int | None = None) -> int:
         raise InputError(
             f"{name} must be a whole number, got {value!r}",
             where=name,
-            fix=f"use e.g. {max(low, 1)}",
+            fix=f"Use e.g. {max(low, 1)}",
         )
     if value < low or (high is not None and value > high):
         span = f"between {low} and {high}" if high is not None else f"at least {low}"
         raise InputError(
-            f"{name} must be {span}, got {value}", where=name, fix=f"use a value {span}"
+            f"{name} must be {span}, got {value}", where=name, fix=f"Use a value {span}"
         )
     return int(value)
 
@@ -116,7 +116,7 @@ def _blend_values(blend_path, dates: pd.DatetimeIndex) -> np.ndarray:
             raise ScenarioError(
                 f"the blend path has no temperature for {len(missing)} window day(s)",
                 where=f"first missing date {missing[0].date()}",
-                fix="give the blend path a temperature for every day of the window",
+                fix="Give the blend path a temperature for every day of the window",
             )
         values = path.reindex(dates).to_numpy(dtype=float)
     else:
@@ -125,14 +125,14 @@ def _blend_values(blend_path, dates: pd.DatetimeIndex) -> np.ndarray:
             raise ScenarioError(
                 f"the blend path has {values.size} temperatures but the window has {len(dates)} days",
                 where="blend_path",
-                fix="give one temperature (°C) per window day",
+                fix="Give one temperature (°C) per window day",
             )
     bad = np.flatnonzero(~np.isfinite(values))
     if bad.size:
         raise ScenarioError(
             "the blend path has a missing temperature",
             where=f"date {dates[bad[0]].date()}",
-            fix="fill every day of the blend path",
+            fix="Fill every day of the blend path",
         )
     return values
 
@@ -194,20 +194,20 @@ def temperature_traces(
     warming = float(warming_c)
     if not np.isfinite(warming):
         raise InputError(
-            "the warming offset is not a number", where="warming_c", fix="use e.g. 1.0"
+            "the warming offset is not a number", where="warming_c", fix="Use e.g. 1.0"
         )
     weight = float(blend_weight)
     if not 0.0 <= weight <= 1.0:
         raise InputError(
             f"blend weight must be between 0 and 1, got {blend_weight}",
             where="blend_weight",
-            fix="use 0 for pure history, 1 for the planner's path only",
+            fix="Use 0 for pure history, 1 for the planner's path only",
         )
     if weight > 0 and blend_path is None:
         raise InputError(
             "a blend weight was given without a blend path",
             where="blend_path",
-            fix="give the planner's temperature path or set the weight to 0",
+            fix="Give the planner's temperature path or set the weight to 0",
         )
 
     temps = history.frame["temperature_c"].astype(float)
@@ -217,7 +217,7 @@ def temperature_traces(
         raise ScenarioError(
             "the history has no temperatures",
             where="temperature_c",
-            fix="load a history with temperatures",
+            fix="Load a history with temperatures",
         )
     first, last = temps.index.min(), min(temps.index.max(), start - pd.Timedelta(days=1))
     shifts = range(-shift_days, shift_days + 1)
@@ -246,7 +246,7 @@ def temperature_traces(
             f"no past year holds the whole {days}-day window plus {shift_days} day(s) of shift "
             f"on each side before {start.date()}",
             where=f"history {first.date()} to {temps.index.max().date()}",
-            fix=f"use a history with at least one full year before the window, a window shorter than "
+            fix=f"Use a history with at least one full year before the window, a window shorter than "
             f"{need} days, or fewer shift days",
         )
 
@@ -279,7 +279,7 @@ def variance_split(pooled: np.ndarray) -> dict[str, np.ndarray]:
     cube = np.asarray(pooled, dtype=float)
     if cube.ndim != 3:
         raise InputError(
-            "paths must be grouped as (traces, paths, days)", where="pooled", fix="reshape"
+            "paths must be grouped as (traces, paths, days)", where="pooled", fix="Reshape"
         )
     within = cube.var(axis=1).mean(axis=0)
     between = cube.mean(axis=1).var(axis=0)
@@ -400,7 +400,7 @@ def _day_type_values(model, dates: pd.DatetimeIndex, day_types) -> pd.Series:
             raise ScenarioError(
                 f"no day type for {len(missing)} window day(s)",
                 where=f"first missing date {missing[0].date()}",
-                fix="give a day type for every day of the window, or leave day types to the calendar",
+                fix="Give a day type for every day of the window, or leave day types to the calendar",
             )
         series = series.reindex(dates)
     else:
@@ -409,7 +409,7 @@ def _day_type_values(model, dates: pd.DatetimeIndex, day_types) -> pd.Series:
             raise ScenarioError(
                 f"{len(values)} day types given for a {len(dates)}-day window",
                 where="day_types",
-                fix="give one day type per window day",
+                fix="Give one day type per window day",
             )
         series = pd.Series(values, index=dates, dtype=object)
     blank = series.isna() | (series.astype(str).str.strip() == "")
@@ -465,7 +465,7 @@ def pool_trace_paths(
         raise LoadcoreError(
             f"the model returned error paths of shape {noise.shape}",
             where="simulate_noise",
-            fix="report this as a bug",
+            fix="Report this as a bug",
         )
     n_traces = traces.shape[1]
     calendar = [str(t) for t in model.calendar_types(dates)]
@@ -536,7 +536,7 @@ def ensemble_forecast(
         raise InputError(
             "quantile levels must lie strictly between 0 and 1",
             where="quantiles",
-            fix="use levels such as 0.05 or 0.95",
+            fix="Use levels such as 0.05 or 0.95",
         )
     threshold = None
     if threshold_mw is not None:
@@ -545,7 +545,7 @@ def ensemble_forecast(
             raise InputError(
                 f"the threshold must be a positive demand in MW, got {threshold_mw}",
                 where="threshold_mw",
-                fix="give a level such as 2500",
+                fix="Give a level such as 2500",
             )
 
     start = pd.Timestamp(model.history_end).normalize() + pd.Timedelta(days=1)
@@ -657,7 +657,7 @@ def _write_csv(frame: pd.DataFrame, path: str) -> None:
         raise InputError(
             f"cannot write the output file: {exc.strerror or exc}",
             where=path,
-            fix="choose a folder that exists and that you can write to",
+            fix="Choose a folder that exists and that you can write to",
         ) from exc
 
 
