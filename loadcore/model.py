@@ -980,13 +980,15 @@ class FittedModel:
         """statsmodels SARIMAX results with this model's parameters (filtered, not refitted)."""
         if self._sm_results is None:
             y, X = self._design_history(self.history)
-            self._sm_results = build_state_space(y, X, self.orders).filter(self.params)
+            self._sm_results = build_state_space(y, X, self.orders).filter(
+                self.params, cov_type="none"
+            )
         return self._sm_results
 
     def update(self, history) -> FittedModel:
         """The same parameters with the state re-run on another history (for rolling origins)."""
         y, X = self._design_history(history)
-        res = build_state_space(y, X, self.orders).filter(self.params)
+        res = build_state_space(y, X, self.orders).filter(self.params, cov_type="none")
         kw = self._kwargs()
         kw.update(history=history)
         return FittedModel._from_results(sm_results=res, **kw)
