@@ -116,3 +116,24 @@ def test_open_into_the_set_and_meeting_brief_download(library_path):
     assert html.lstrip().lower().startswith("<!doctype html")
     assert "not an operating or reliability-compliance tool" in html
     assert "<script>x" not in html
+
+
+def test_a_scenario_saved_in_one_session_opens_in_another_after_a_restart(library_path):
+    """Save through the page in one app session; a brand-new session (a restarted app on the
+    same library file) lists it and opens it into its own set, unchanged."""
+    first = _saved_page(scenarios={"Heat wave": _hot()})
+    first.text_input(key="lib_note").set_value("for Monday's meeting")
+    first.button(key="lib_save").click()
+    first.run()
+    assert_no_exception(first)
+    del first
+    second = _saved_page()
+    assert_no_exception(second)
+    assert second.dataframe[0].value["name"].tolist() == ["Heat wave"]
+    assert "scenarios" not in second.session_state or "Heat wave" not in dict(
+        second.session_state["scenarios"]
+    )
+    second.button(key="lib_open").click()
+    second.run()
+    assert_no_exception(second)
+    assert second.session_state["scenarios"]["Heat wave"] == _hot()
