@@ -47,7 +47,9 @@ class InputError(LoadcoreError):
 class HistoryError(InputError):
     """The demand history has errors. ``report`` holds the full validation report."""
 
-    def __init__(self, problem: str, *, report=None, where: str | None = None, fix: str | None = None):
+    def __init__(
+        self, problem: str, *, report=None, where: str | None = None, fix: str | None = None
+    ):
         self.report = report
         super().__init__(problem, where=where, fix=fix)
 
