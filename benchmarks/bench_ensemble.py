@@ -26,11 +26,13 @@ import numpy as np
 import pandas as pd
 
 REPO = Path(__file__).resolve().parent.parent
-if str(REPO) not in sys.path:
-    sys.path.insert(0, str(REPO))
+for _folder in (REPO, REPO / "benchmarks"):
+    if str(_folder) not in sys.path:
+        sys.path.insert(0, str(_folder))
+
+from common import benchmark_model  # noqa: E402
 
 from loadcore.history import read_history  # noqa: E402
-from loadcore.model import FitSettings, fit, load_model  # noqa: E402
 from loadcore.terms import design_matrix  # noqa: E402
 from loadcore.weather import ensemble_forecast, temperature_traces  # noqa: E402
 
@@ -42,18 +44,10 @@ PATHS_PER_TRACE = 200
 REPEATS = 3
 BASELINE_SAMPLE = 50
 SEED = 20261201
-# A model for the benchmark when demo_data/demo_model.json is missing: small search bounds keep
-# the set-up short; the ensemble being timed does not depend on how the orders were found.
-SETUP_SETTINGS = FitSettings(search="quick", max_p=2, max_q=1, max_pq=3, max_P=1, max_Q=1)
 
 
 def _model(history):
-    path = REPO / "demo_data" / "demo_model.json"
-    if path.exists():
-        model = load_model(path)
-        if model.history.fingerprint == history.fingerprint:
-            return model, "demo_data/demo_model.json"
-    return fit(history, SETUP_SETTINGS), "fitted for the benchmark (small search bounds)"
+    return benchmark_model(history)
 
 
 def _trace_regressors(model, traces: pd.DataFrame) -> list[np.ndarray]:

@@ -24,30 +24,25 @@ from pathlib import Path
 import pandas as pd
 
 REPO = Path(__file__).resolve().parent.parent
-if str(REPO) not in sys.path:
-    sys.path.insert(0, str(REPO))
+for _folder in (REPO, REPO / "benchmarks"):
+    if str(_folder) not in sys.path:
+        sys.path.insert(0, str(_folder))
+
+from common import benchmark_model  # noqa: E402
 
 from app import charts  # noqa: E402
 from loadcore.history import read_history  # noqa: E402
-from loadcore.model import FitSettings, fit, load_model  # noqa: E402
+from loadcore.model import fit  # noqa: E402
 from loadcore.scenario import heat_wave, make_scenario, seasonal_normal_path  # noqa: E402
 
 NAME = "redraw"
 TARGET_MS = 300.0
 EDITS = 15
 APP_RERUNS = 5
-# A model for the benchmark when demo_data/demo_model.json is missing: small search bounds keep
-# the set-up short; the edit being timed does not depend on how the orders were found.
-SETUP_SETTINGS = FitSettings(search="quick", max_p=2, max_q=1, max_pq=3, max_P=1, max_Q=1)
 
 
 def _model(history):
-    path = REPO / "demo_data" / "demo_model.json"
-    if path.exists():
-        model = load_model(path)
-        if model.history.fingerprint == history.fingerprint:
-            return model, "demo_data/demo_model.json"
-    return fit(history, SETUP_SETTINGS), "fitted for the benchmark (small search bounds)"
+    return benchmark_model(history)
 
 
 def _base_path(model):
