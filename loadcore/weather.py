@@ -146,6 +146,7 @@ def temperature_traces(
     warming_c: float = 0.0,
     blend_path=None,
     blend_weight: float = 0.0,
+    widen_for_few_years: bool = True,
 ) -> pd.DataFrame:
     """Temperature traces for a future window, one per past year and day shift.
 
@@ -175,6 +176,12 @@ def temperature_traces(
         A planner's temperature path in °C, indexed by the window dates or one value per day.
     blend_weight : float
         Weight of ``blend_path`` in [0, 1].
+    widen_for_few_years : bool
+        Spread each day's traces about their mean by sqrt(1 + 1/n), n the number of past years:
+        a new year's weather is drawn from the same climate as the n years seen, so its spread
+        about their average is wider than theirs, as in the prediction interval for a new
+        observation from a sample of n (e.g. Hahn and Meeker, Statistical Intervals, 1991,
+        from memory). With many years the factor tends to one.
 
     Returns
     -------
@@ -251,6 +258,11 @@ def temperature_traces(
         )
 
     frame = pd.DataFrame(columns, index=dates)
+    if widen_for_few_years:
+        n_years = len({int(name[:4]) for name in columns})
+        centre = frame.mean(axis=1)
+        factor = float(np.sqrt(1.0 + 1.0 / n_years))
+        frame = frame.sub(centre, axis=0).mul(factor).add(centre, axis=0)
     frame += warming
     if blend_path is not None and weight > 0:
         path = _blend_values(blend_path, dates)
@@ -611,9 +623,9 @@ def ensemble_forecast(
         f"{n_traces} temperature traces from past years (shifts up to {shift_days} day(s)"
         f"{f', warming {warming_c:+.1f} °C' if warming_c else ''}"
         f"{f', blended {blend_weight:.0%} toward a planner path' if blend_path is not None and blend_weight else ''}"
-        f") x {n_each} error paths each. The weather spread covers only the years in the "
-        "history: a hotter or colder spell than any of them is not in it, so with few years the "
-        f"bands are likely too narrow. {CAUTION}"
+        f") x {n_each} error paths each, the traces widened by sqrt(1 + 1/years) for the few "
+        "years seen. The weather spread still comes only from the years in the history: a "
+        f"hotter or colder spell than any of them is not in it. {CAUTION}"
     )
     return EnsembleResult(
         daily=daily,

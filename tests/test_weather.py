@@ -36,7 +36,7 @@ def _value(history, date):
 
 def test_traces_names_shape_and_alignment():
     history = _temps_history()
-    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3)
+    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3, widen_for_few_years=False)
     # Years 2019..2023: 2019 needs 2019-01-07, inside the history.
     assert traces.shape == (30, 5 * 7)
     assert list(traces.columns[:7]) == [f"2019{s:+d}" for s in range(-3, 4)]
@@ -50,18 +50,18 @@ def test_traces_names_shape_and_alignment():
 
 def test_traces_skip_years_without_the_whole_window():
     history = _temps_history(start="2019-01-05")
-    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3)
+    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3, widen_for_few_years=False)
     # 2019 needs 2019-01-07 onwards: inside; a history from 2019-01-08 drops it.
     assert traces.shape[1] == 35
     history = _temps_history(start="2019-01-08")
-    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3)
+    traces = temperature_traces(history, "2024-01-10", 30, shift_days=3, widen_for_few_years=False)
     assert traces.shape[1] == 28 and not any(c.startswith("2019") for c in traces.columns)
 
 
 def test_traces_never_use_data_on_or_after_start():
     history = _temps_history(end="2023-12-31")
     # A window starting inside the history: traces from 2023 would overlap the start.
-    traces = temperature_traces(history, "2023-12-20", 20, shift_days=2)
+    traces = temperature_traces(history, "2023-12-20", 20, shift_days=2, widen_for_few_years=False)
     assert not any(c.startswith("2023") for c in traces.columns)
     start_value = _value(history, "2023-12-20")
     assert (traces.to_numpy() < start_value).all()
@@ -69,7 +69,7 @@ def test_traces_never_use_data_on_or_after_start():
 
 def test_traces_cross_the_year_end():
     history = _temps_history()
-    traces = temperature_traces(history, "2023-12-25", 14, shift_days=0)
+    traces = temperature_traces(history, "2023-12-25", 14, shift_days=0, widen_for_few_years=False)
     # Last usable year 2022: 2022-12-25 .. 2023-01-07.
     assert "2022+0" in traces.columns
     assert traces["2022+0"].iloc[-1] == _value(history, "2023-01-07")
@@ -77,11 +77,11 @@ def test_traces_cross_the_year_end():
 
 def test_traces_feb_29_start_uses_feb_28_in_common_years():
     history = _temps_history(end="2024-02-28")
-    traces = temperature_traces(history, "2024-02-29", 10, shift_days=0)
+    traces = temperature_traces(history, "2024-02-29", 10, shift_days=0, widen_for_few_years=False)
     assert traces["2023+0"].iloc[0] == _value(history, "2023-02-28")
     assert traces["2020+0"].iloc[0] == _value(history, "2020-02-29")
     # A window crossing a leap day in the trace year stays consecutive.
-    traces = temperature_traces(history, "2023-02-20", 15, shift_days=1)
+    traces = temperature_traces(history, "2023-02-20", 15, shift_days=1, widen_for_few_years=False)
     assert traces["2020+0"].iloc[9] == _value(history, "2020-02-29")
     np.testing.assert_array_equal(np.diff(traces["2020+0"].to_numpy()), 1.0)
 
@@ -303,3 +303,19 @@ def test_ensemble_cli_bad_input_has_no_traceback(tmp_path, capsys):
     code = main(["ensemble", str(tmp_path / "missing.json"), "--out", str(tmp_path / "x.csv")])
     err = capsys.readouterr().err
     assert code == 1 and "Traceback" not in err and err.strip()
+
+
+def test_traces_are_widened_for_few_years_about_their_mean():
+    """With n past years the traces' spread about each day's mean grows by sqrt(1 + 1/n), the
+    factor of a prediction interval for one new observation from a sample of n (Hahn and Meeker,
+    Statistical Intervals, 1991, from memory); the daily mean is unchanged."""
+    history = _temps_history()
+    raw = temperature_traces(history, "2024-01-10", 21, shift_days=2, widen_for_few_years=False)
+    wide = temperature_traces(history, "2024-01-10", 21, shift_days=2)
+    n_years = len({c[:4] for c in raw.columns})
+    assert n_years >= 2
+    np.testing.assert_allclose(wide.mean(axis=1), raw.mean(axis=1), atol=1e-9)
+    ratio = (wide.sub(wide.mean(axis=1), axis=0)).std(axis=1) / (
+        raw.sub(raw.mean(axis=1), axis=0)
+    ).std(axis=1)
+    np.testing.assert_allclose(ratio, np.sqrt(1 + 1 / n_years), rtol=1e-9)
