@@ -44,7 +44,7 @@ def _grid_baseline(history, model, seed: int = 0) -> dict:
     frame = history.frame
     y = _response(frame["demand"].to_numpy(float), model.settings.log)
     types = model.calendar_types(frame.index).to_numpy(dtype=object)
-    X = model._design(frame.index, frame["temperature_c"].to_numpy(float), types)
+    X = model.regressors(frame.index, frame["temperature_c"].to_numpy(float), types)
     grid = model.settings.bounds.all_orders(model.orders.d, model.orders.D)
     rng = np.random.default_rng(seed)
     sample = [grid[i] for i in rng.choice(len(grid), size=GRID_SAMPLE, replace=False)]
@@ -117,7 +117,7 @@ def run() -> dict:
     ours_fc = (time.perf_counter() - t0) / reps
     res = thorough.statsmodels_results()
     types = thorough.calendar_types(sc90.dates).to_numpy(dtype=object)
-    X90 = thorough._design(sc90.dates, sc90.temperature_c, types)
+    X90 = thorough.regressors(sc90.dates, sc90.temperature_c, types)
     t0 = time.perf_counter()
     for _ in range(5):
         f = res.get_forecast(90, exog=X90)

@@ -33,7 +33,6 @@ for _folder in (REPO, REPO / "benchmarks"):
 from common import benchmark_model  # noqa: E402
 
 from loadcore.history import read_history  # noqa: E402
-from loadcore.terms import design_matrix  # noqa: E402
 from loadcore.weather import ensemble_forecast, temperature_traces  # noqa: E402
 
 NAME = "ensemble"
@@ -54,19 +53,8 @@ def _trace_regressors(model, traces: pd.DataFrame) -> list[np.ndarray]:
     """The model's regressor matrix for every trace (what the baseline simulator needs)."""
     dates = pd.DatetimeIndex(traces.index)
     types = model.calendar_types(dates).to_numpy(dtype=object)
-    out = []
-    for name in traces.columns:
-        frame = design_matrix(
-            dates,
-            traces[name].to_numpy(dtype=float),
-            types,
-            model.settings.terms,
-            levels=model.day_type_levels,
-            base_type=model.base_type,
-            origin=model.origin,
-            intercept=model.intercept,
-        )
-        out.append(frame[list(model.columns)].to_numpy())
+    temps = traces.to_numpy(dtype=float)
+    out = [model.regressors(dates, temps[:, j], types) for j in range(temps.shape[1])]
     return out
 
 

@@ -608,7 +608,8 @@ class FittedModel:
         return day_types(pd.DatetimeIndex(dates), self.settings.calendar)
 
     # ---- regression pieces ----------------------------------------------------------------
-    def _design(self, dates, temperature_c, types) -> np.ndarray:
+    def regressors(self, dates, temperature_c, types) -> np.ndarray:
+        """The model's regression columns for any dates, temperatures (°C) and day types."""
         X = design_matrix(
             pd.DatetimeIndex(dates),
             np.asarray(temperature_c, float),
@@ -679,7 +680,7 @@ class FittedModel:
             )
             types[fill] = [str(g).strip() for g in given[fill]]
         try:
-            self._design(dates[:1], temps[:1], types[:1])
+            self.regressors(dates[:1], temps[:1], types[:1])
             self._check_types(dates, types)
         except InputError as exc:
             raise ScenarioError(exc.problem, where=exc.where, fix=exc.fix) from None
@@ -698,7 +699,7 @@ class FittedModel:
     def linear_predictor(self, scenario) -> np.ndarray:
         """The regression part x'beta for each scenario day, model scale."""
         dates, temps, types = self._scenario_inputs(scenario)
-        return self._design(dates, temps, types) @ self.beta
+        return self.regressors(dates, temps, types) @ self.beta
 
     # ---- the error process ------------------------------------------------------------------
     def _noise_moments(self, horizon: int) -> tuple[np.ndarray, np.ndarray]:
@@ -749,7 +750,7 @@ class FittedModel:
         """Forecast a scenario: mean, median, prediction intervals and range flags per day."""
         levels = _check_levels(levels)
         dates, temps, types = self._scenario_inputs(scenario)
-        lin = self._design(dates, temps, types) @ self.beta
+        lin = self.regressors(dates, temps, types) @ self.beta
         noise_mean, noise_var = self._noise_moments(len(dates))
         mu = lin + noise_mean
         sd = np.sqrt(noise_var)
@@ -972,7 +973,7 @@ class FittedModel:
         dates = pd.DatetimeIndex(frame.index)
         types = self.calendar_types(dates).to_numpy(dtype=object)
         self._check_types(dates, types)
-        X = self._design(dates, frame["temperature_c"].to_numpy(float), types)
+        X = self.regressors(dates, frame["temperature_c"].to_numpy(float), types)
         y = _response(frame["demand"].to_numpy(float), self.settings.log)
         return y, X
 

@@ -107,18 +107,28 @@ def _check_int(value, name: str, low: int, high: int | None = None) -> int:
     return int(value)
 
 
+def _on_dates(series: pd.Series, dates: pd.DatetimeIndex, problem: str, fix: str) -> pd.Series:
+    """A per-day series put on the window dates; a ScenarioError names the first missing day."""
+    aligned = series.copy()
+    aligned.index = pd.DatetimeIndex(aligned.index).normalize()
+    missing = dates.difference(aligned.index)
+    if len(missing):
+        raise ScenarioError(
+            f"{problem} for {len(missing)} window day(s)",
+            where=f"first missing date {missing[0].date()}",
+            fix=fix,
+        )
+    return aligned.reindex(dates)
+
+
 def _blend_values(blend_path, dates: pd.DatetimeIndex) -> np.ndarray:
     if isinstance(blend_path, pd.Series):
-        path = blend_path.copy()
-        path.index = pd.DatetimeIndex(path.index).normalize()
-        missing = dates.difference(path.index)
-        if len(missing):
-            raise ScenarioError(
-                f"the blend path has no temperature for {len(missing)} window day(s)",
-                where=f"first missing date {missing[0].date()}",
-                fix="Give the blend path a temperature for every day of the window",
-            )
-        values = path.reindex(dates).to_numpy(dtype=float)
+        values = _on_dates(
+            blend_path,
+            dates,
+            "the blend path has no temperature",
+            "Give the blend path a temperature for every day of the window",
+        ).to_numpy(dtype=float)
     else:
         values = np.asarray(blend_path, dtype=float).ravel()
         if values.size != len(dates):
@@ -405,16 +415,12 @@ def _day_type_values(model, dates: pd.DatetimeIndex, day_types) -> pd.Series:
     if day_types is None:
         return pd.Series(list(model.calendar_types(dates)), index=dates).astype(str)
     if isinstance(day_types, pd.Series):
-        series = day_types.copy()
-        series.index = pd.DatetimeIndex(series.index).normalize()
-        missing = dates.difference(series.index)
-        if len(missing):
-            raise ScenarioError(
-                f"no day type for {len(missing)} window day(s)",
-                where=f"first missing date {missing[0].date()}",
-                fix="Give a day type for every day of the window, or leave day types to the calendar",
-            )
-        series = series.reindex(dates)
+        series = _on_dates(
+            day_types,
+            dates,
+            "no day type",
+            "Give a day type for every day of the window, or leave day types to the calendar",
+        )
     else:
         values = list(day_types)
         if len(values) != len(dates):

@@ -138,7 +138,7 @@ def test_own_forecast_equals_statsmodels_forecast(demo_model, heat_wave_scenario
     res = demo_model.statsmodels_results()
     dates = pd.DatetimeIndex(heat_wave_scenario.dates)
     types = demo_model.calendar_types(dates).to_numpy(dtype=object)
-    X = demo_model._design(dates, heat_wave_scenario.temperature_c, types)
+    X = demo_model.regressors(dates, heat_wave_scenario.temperature_c, types)
     ref = res.get_forecast(len(dates), exog=X)
     fc = demo_model.forecast(heat_wave_scenario, levels=(80,))
     np.testing.assert_allclose(np.log(fc.frame["median"]), ref.predicted_mean, rtol=1e-9)
