@@ -822,8 +822,13 @@ class FittedModel:
     def std_errors(self) -> np.ndarray:
         return np.sqrt(np.clip(np.diag(self.cov), 0, None))
 
-    def coefficient_table(self) -> pd.DataFrame:
-        """Every estimated parameter with its standard error and a plain meaning."""
+    def coefficient_table(self, temp_unit: str = "C") -> pd.DataFrame:
+        """Every estimated parameter with its standard error and a plain meaning.
+
+        ``temp_unit`` ("C" or "F") only changes how temperatures and per-degree effects are
+        worded in ``meaning``; estimates and standard errors stay on the model's own scale.
+        """
+        unit = _temp_unit(temp_unit)
         se = self.std_errors()
         rows = []
         names = list(self.columns) + list(self.param_names[len(self.columns) :])
@@ -834,53 +839,62 @@ class FittedModel:
                     "term": _term_label(name),
                     "estimate": est,
                     "std_error": float(se[i]),
-                    "meaning": self._meaning(name, est),
+                    "meaning": self._meaning(name, est, unit),
                 }
             )
         return pd.DataFrame(rows)
 
-    def _meaning(self, name: str, b: float) -> str:
+    def _meaning(self, name: str, b: float, temp_unit: str = "C") -> str:
         spec = self.settings.terms
         unit = self.demand_unit
         base = _type_label(self.base_type)
-        if self.settings.log:
-            pct = 100.0 * (math.exp(b) - 1.0)
+        deg = f"°{temp_unit}"
+        per = 1.8 if temp_unit == "F" else 1.0  # °C per °F step is 1/1.8
 
-            def effect(what: str) -> str:
+        def temp(value_c: float) -> str:
+            return f"{_in_unit(value_c, temp_unit):g} {deg}"
+
+        def effect(what: str, coef: float = b) -> str:
+            if self.settings.log:
+                pct = 100.0 * (math.exp(coef) - 1.0)
                 verb = "raises" if pct >= 0 else "lowers"
                 return f"{what} {verb} demand by {abs(pct):.1f} %"
-        else:
-
-            def effect(what: str) -> str:
-                verb = "raises" if b >= 0 else "lowers"
-                return f"{what} {verb} demand by {abs(b):,.1f} {unit}"
+            verb = "raises" if coef >= 0 else "lowers"
+            return f"{what} {verb} demand by {abs(coef):,.1f} {unit}"
 
         if name == "const":
             lvl = math.exp(b) if self.settings.log else b
             where = (
-                f"at {spec.reference_temp_c:g} °C"
+                f"at {temp(spec.reference_temp_c)}"
                 if spec.response == "quadratic"
-                else f"between {spec.heating_base_c:g} and {spec.cooling_base_c:g} °C"
+                else f"between {temp(spec.heating_base_c)} and {temp(spec.cooling_base_c)}"
             )
             return f"demand on a {base} {where} at the start of the history: {lvl:,.0f} {unit}"
         if name == "trend_years":
             return effect("each year of growth") + " (apart from weather and calendar)"
         if name == "temp":
-            slope = b / 10.0
+            slope = b / 10.0 / per
             s = (
-                f"{100 * slope:+.2f} % per °C"
+                f"{100 * slope:+.2f} % per {deg}"
                 if self.settings.log
-                else f"{slope:+,.1f} {unit} per °C"
+                else f"{slope:+,.1f} {unit} per {deg}"
             )
-            return f"slope of the temperature response at {spec.reference_temp_c:g} °C: {s}"
+            return f"slope of the temperature response at {temp(spec.reference_temp_c)}: {s}"
         if name == "temp_sq":
-            c = 2 * b / 100.0
-            s = f"{100 * c:+.3f} % per °C" if self.settings.log else f"{c:+,.2f} {unit} per °C"
-            return f"curvature: the slope changes by {s} for every °C away from {spec.reference_temp_c:g} °C"
+            c = 2 * b / 100.0 / per**2
+            s = (
+                f"{100 * c:+.3f} % per {deg}"
+                if self.settings.log
+                else f"{c:+,.2f} {unit} per {deg}"
+            )
+            return (
+                f"curvature: the slope changes by {s} for every {deg} away from "
+                f"{temp(spec.reference_temp_c)}"
+            )
         if name == "hdd":
-            return effect(f"each degree below {spec.heating_base_c:g} °C")
+            return effect(f"each {deg} below {temp(spec.heating_base_c)}", b / per)
         if name == "cdd":
-            return effect(f"each degree above {spec.cooling_base_c:g} °C")
+            return effect(f"each {deg} above {temp(spec.cooling_base_c)}", b / per)
         if name.startswith("type_"):
             t = name[len("type_") :]
             return effect(f"a {_type_label(t)}") + f" compared with a {base}"
@@ -918,19 +932,25 @@ class FittedModel:
             return float(spec.reference_temp_c - 5.0 * b1 / b2)
         return float((spec.heating_base_c + spec.cooling_base_c) / 2.0)
 
-    def describe_lowest_demand(self) -> str:
+    def describe_lowest_demand(self, temp_unit: str = "C") -> str:
+        """The temperature of lowest demand in words, in °C or °F."""
+        unit = _temp_unit(temp_unit)
         spec = self.settings.terms
         t = self.lowest_demand_temperature_c()
         lo, hi = self.temperature_range_c
+
+        def temp(value_c: float) -> str:
+            return f"{_in_unit(value_c, unit):.1f} °{unit}"
+
         if spec.response == "degree_days":
             return (
-                f"Demand is lowest in the flat band between {spec.heating_base_c:g} and "
-                f"{spec.cooling_base_c:g} °C."
+                f"Demand is lowest in the flat band between {temp(spec.heating_base_c)} and "
+                f"{temp(spec.cooling_base_c)}."
             )
         if t is None:
             return "The fitted response has no minimum (it is not U-shaped); check the data."
         where = "" if lo <= t <= hi else " (outside the fitted range: treat with care)"
-        return f"Demand is lowest at about {t:.1f} °C{where}."
+        return f"Demand is lowest at about {temp(t)}{where}."
 
     def diagnostics(self, max_lag: int = 28) -> Diagnostics:
         """Residual ACF with ±1.96/√n bounds and the Ljung-Box test at lag 14."""
@@ -1109,6 +1129,18 @@ def _check_levels(levels: Sequence[float]) -> list[float]:
             )
         out.append(int(v) if v.is_integer() else v)
     return out
+
+
+def _temp_unit(unit: str) -> str:
+    u = str(unit).strip().upper().lstrip("°")
+    if u not in ("C", "F"):
+        raise InputError(f"Unknown temperature unit '{unit}'", where="temp_unit", fix="Use C or F")
+    return u
+
+
+def _in_unit(value_c: float, unit: str) -> float:
+    """°C to the display unit (°F only at the edges)."""
+    return round(value_c * 9.0 / 5.0 + 32.0, 1) if unit == "F" else value_c
 
 
 def _level_name(L: float) -> str:

@@ -285,3 +285,20 @@ def test_too_short_history_is_refused():
     frame = _simulate(200, seed=1)
     with pytest.raises(ModelError, match="at least a year"):
         fit(history_from_frame(frame), SIM_SETTINGS)
+
+
+def test_meanings_can_be_worded_in_fahrenheit(demo_model):
+    """Per-degree effects convert with 1 °F = 5/9 °C and temperatures with F = 9/5 C + 32
+    (the definition of the Fahrenheit scale; common practice, no source)."""
+    c = demo_model.coefficient_table()
+    f = demo_model.coefficient_table(temp_unit="F")
+    np.testing.assert_array_equal(c["estimate"], f["estimate"])
+    slope_c = c.loc[c["term"] == "temperature (per 10 °C)", "meaning"].iloc[0]
+    slope_f = f.loc[f["term"] == "temperature (per 10 °C)", "meaning"].iloc[0]
+    assert "at 18 °C" in slope_c and "at 64.4 °F" in slope_f and "per °F" in slope_f
+    b = float(c.loc[c["term"] == "temperature (per 10 °C)", "estimate"].iloc[0])
+    assert f"{100 * b / 10 / 1.8:+.2f} % per °F" in slope_f
+    t = demo_model.lowest_demand_temperature_c()
+    assert f"{t * 9 / 5 + 32:.1f} °F" in demo_model.describe_lowest_demand(temp_unit="F")
+    with pytest.raises(Exception, match="Unknown temperature unit"):
+        demo_model.coefficient_table(temp_unit="K")

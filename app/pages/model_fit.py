@@ -189,15 +189,11 @@ b.metric("Candidates evaluated", f"{fitted.candidates_evaluated}")
 c.metric("Estimation converged", "yes" if fitted.converged else "no")
 if not fitted.converged:
     st.warning("The estimation did not fully converge; try the thorough search or other settings.")
-lowest = fitted.lowest_demand_temperature_c()
-st.markdown(
-    fitted.describe_lowest_demand()
-    + (f" ({state.fmt_temp(lowest)})" if lowest is not None and state.temp_unit() == "F" else "")
-)
+st.markdown(fitted.describe_lowest_demand(temp_unit=state.temp_unit()))
 
 st.markdown("**What each term means**")
 st.dataframe(
-    fitted.coefficient_table(),
+    fitted.coefficient_table(temp_unit=state.temp_unit()),
     hide_index=True,
     width="stretch",
     column_config={
