@@ -493,17 +493,7 @@ def _forecast_column(frame: pd.DataFrame, side: str, level: float) -> str:
 
 
 def _describe_orders(model) -> str:
-    try:
-        from loadcore.export import describe_orders
-
-        return describe_orders(model.order, model.seasonal_order)
-    except (ImportError, AttributeError, TypeError, ValueError):
-        p, d, q = model.order
-        sp, sd, sq = tuple(model.seasonal_order)[:3]
-        return (
-            f"AR {p}, differencing {d}, MA {q}; weekly AR {sp}, weekly differencing {sd}, "
-            f"weekly MA {sq}"
-        )
+    return model.orders.describe()
 
 
 # ---------------------------------------------------------------------------------------------------

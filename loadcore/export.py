@@ -533,7 +533,7 @@ def out_of_range_days(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -
 
 
 def describe_orders(order: Sequence[int], seasonal_order: Sequence[int]) -> str:
-    """Model orders in plain words, e.g. "AR 1, differencing 0, MA 1; weekly AR 1, ...".
+    """Model orders in the product's one layout (:meth:`loadcore.search.Orders.describe`).
 
     Parameters
     ----------
@@ -542,15 +542,13 @@ def describe_orders(order: Sequence[int], seasonal_order: Sequence[int]) -> str:
     seasonal_order : (P, D, Q, s)
         Seasonal orders; ``s`` is 7 (weekly) for daily data.
     """
+    from .search import WEEKLY_PERIOD, Orders
+
     p, d, q = (int(x) for x in tuple(order)[:3])
     seasonal = tuple(seasonal_order)
     big_p, big_d, big_q = (int(x) for x in seasonal[:3])
-    period = int(seasonal[3]) if len(seasonal) > 3 else 7
-    word = "weekly" if period == 7 else f"period-{period}"
-    return (
-        f"AR {p}, differencing {d}, MA {q}; "
-        f"{word} AR {big_p}, {word} differencing {big_d}, {word} MA {big_q}"
-    )
+    period = int(seasonal[3]) if len(seasonal) > 3 else WEEKLY_PERIOD
+    return Orders(p, d, q, big_p, big_d, big_q, period).describe()
 
 
 def summarise_model(model: Any) -> dict[str, str]:

@@ -73,9 +73,10 @@ class Orders:
 
     def describe(self) -> str:
         """Our own plain layout, e.g. ``AR 2 · MA 1 | weekly AR 1 · MA 0 | differencing 0, weekly 0``."""
+        word = "weekly" if self.period == WEEKLY_PERIOD else f"every {self.period} days"
         return (
-            f"AR {self.p} · MA {self.q} | weekly AR {self.P} · MA {self.Q} | "
-            f"differencing {self.d}, weekly {self.D}"
+            f"AR {self.p} · MA {self.q} | {word} AR {self.P} · MA {self.Q} | "
+            f"differencing {self.d}, {word} {self.D}"
         )
 
 

@@ -290,7 +290,7 @@ def test_out_of_range_days_lists_flagged_rows():
 
 def test_describe_orders_uses_plain_words():
     text = describe_orders((2, 1, 1), (1, 0, 1, 7))
-    assert text == ("AR 2, differencing 1, MA 1; weekly AR 1, weekly differencing 0, weekly MA 1")
+    assert text == "AR 2 · MA 1 | weekly AR 1 · MA 1 | differencing 1, weekly 0"
     assert "(" not in text and "[" not in text
 
 
@@ -318,7 +318,7 @@ def test_summarise_model_reads_the_contract_attributes():
             return "today's error carries over to tomorrow"
 
     summary = summarise_model(FakeModel())
-    assert summary["Error model"].startswith("AR 1, differencing 0, MA 1; weekly AR 1")
+    assert summary["Error model"].startswith("AR 1 · MA 1 | weekly AR 1")
     assert summary["AICc"] == "-1,234.6"
     assert summary["History used"] == "2026-01-01 to 2030-12-31"
     assert summary["Fitted temperature range"] == "-12.0 °C to 38.5 °C"
@@ -373,7 +373,7 @@ def test_meeting_brief_content_and_cautions():
     t_f = hot.frame["temperature_c"][4] * 9 / 5 + 32
     assert f"<td>{day}</td><td>{t_f:.1f} °F</td><td>1.5 °C (2.7 °F)</td>" in text
     assert "plus 3 °C on every day" in text
-    assert "AR 1, differencing 0, MA 1; weekly AR 1" in text
+    assert "AR 1 · MA 1 | weekly AR 1" in text
     assert "History 2026-01-01 to 2031-06-30" in text
     assert "2031-06-03" in text  # history tail start
     assert "hot (base)" not in text and "base (base)" in text

@@ -549,7 +549,7 @@ def test_entry_from_forecast_with_contract_shaped_objects(library):
     assert len(entry.context["history_tail"]) == lib.HISTORY_TAIL_DAYS
     assert entry.context["history_tail"][-1] == {"date": "2031-06-30", "demand": 99.0}
     assert entry.context["history_period"] == ["2031-03-23", "2031-06-30"]
-    assert entry.context["model_summary"]["Error model"].startswith("AR 1, differencing 0")
+    assert entry.context["model_summary"]["Error model"].startswith("AR 1 · MA 1 | weekly AR 1")
     saved = library.save(entry)
     assert is_current(saved, model)
     tail = saved.history_tail()
