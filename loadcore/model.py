@@ -325,8 +325,7 @@ def fit(
     burn = bounds.max_p + WEEKLY_PERIOD * bounds.max_P + WEEKLY_PERIOD
 
     def screen(o: Orders):
-        r = css_screen(w, o, n_exog=n_exog, burn=burn)
-        return r
+        return css_screen(w, o, n_exog=n_exog, burn=burn)
 
     # Step 3: screening.
     if orders is not None:
@@ -397,14 +396,13 @@ def fit(
     # Polish the chosen model with tight tolerances; keep the ranking fit if that fails.
     polished = exact_fit(ys, X, best.orders, best.params, tolerance="final", maxiter=200)
     if polished.usable and polished.loglik >= best.loglik - 1e-6:
-        best = polished
+        best = exact[best.orders] = polished  # the candidate table shows the final fit
     else:
         log.warning("tight refit of %s did not improve (%s)", best.orders.describe(), polished.note)
 
     # Step 5: final filter on the model scale (unscaled parameters) for state and errors.
-    n_b = n_exog
     params = best.params.copy()
-    params[:n_b] = beta0 + params[:n_b] / scale
+    params[:n_exog] = beta0 + params[:n_exog] / scale
     params[-1] /= scale**2
     sm_model = build_state_space(y, X, best.orders)
     res = sm_model.filter(params, cov_type="opg")
