@@ -15,6 +15,7 @@ import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
 from app import palette
+from loadcore.calendar import day_type_label
 
 Convert = Callable[[np.ndarray], np.ndarray]
 
@@ -95,7 +96,7 @@ def history_figure(
                 y=frame["demand"].to_numpy()[mask],
                 mode="markers",
                 marker={"color": colour, "size": 4},
-                name=name.replace("_", " "),
+                name=day_type_label(name),
                 legendgroup=name,
                 hovertemplate="%{x|%a %d %b %Y}: %{y:,.0f} MW<extra>" + name + "</extra>",
             ),
@@ -143,7 +144,7 @@ def response_figure(
                 y=frame["demand"].to_numpy()[mask],
                 mode="markers",
                 marker={"color": colour, "size": 5, "opacity": 0.6},
-                name=name.replace("_", " "),
+                name=day_type_label(name),
             )
         )
     if range_c is not None:

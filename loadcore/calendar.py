@@ -68,6 +68,24 @@ _HOW_TO_FIND_CODES = (
 )
 
 
+_TYPE_LABELS = {
+    "midweek": "midweek day (Tue-Thu)",
+    "holiday": "public holiday",
+    "non_working": "non-working day",
+    "working": "working day",
+    "monday": "Monday",
+    "friday": "Friday",
+    "saturday": "Saturday",
+    "sunday": "Sunday",
+    "year_end": "year-end day",
+}
+
+
+def day_type_label(day_type: str) -> str:
+    """A day type in plain words for tables and charts, e.g. ``midweek`` -> "midweek day (Tue-Thu)"."""
+    return _TYPE_LABELS.get(day_type, str(day_type).replace("_", " ") + " day")
+
+
 def normalise_type_name(name: str) -> str:
     """Return ``name`` in lower_snake_case (``"Year End"`` -> ``"year_end"``).
 

@@ -25,7 +25,7 @@ import pandas as pd
 from scipy import stats
 
 from . import __version__
-from .calendar import BASE_TYPE, CalendarSpec, day_types
+from .calendar import BASE_TYPE, CalendarSpec, day_type_label, day_types
 from .errors import InputError, LoadcoreError, ModelError, ScenarioError
 from .search import (
     WEEKLY_PERIOD,
@@ -1145,21 +1145,8 @@ def _level_name(L: float) -> str:
     return str(int(L)) if float(L).is_integer() else str(L).replace(".", "_")
 
 
-_TYPE_LABELS = {
-    "midweek": "midweek day (Tue-Thu)",
-    "holiday": "public holiday",
-    "non_working": "non-working day",
-    "working": "working day",
-    "monday": "Monday",
-    "friday": "Friday",
-    "saturday": "Saturday",
-    "sunday": "Sunday",
-    "year_end": "year-end day",
-}
-
-
 def _type_label(t: str) -> str:
-    return _TYPE_LABELS.get(t, t.replace("_", " ") + " day")
+    return day_type_label(t)
 
 
 def _term_label(name: str) -> str:
