@@ -303,12 +303,12 @@ def fit(
         decision = DifferencingDecision(orders.d, orders.D, (), float("nan"), float("nan"))
         d, D = orders.d, orders.D
     intercept = d == 0 and D == 0
-    X_df = design(intercept)
+    X_df = X_full if intercept else design(False)
     X = X_df.to_numpy()
 
     # Step 2: regression coefficients to start from, and the residual series to screen on.
     if intercept:
-        beta0 = _ols(y, X)
+        beta0 = beta_ols
     else:
         yd = difference(y, d, D)
         Xd = np.column_stack([difference(X[:, j], d, D) for j in range(X.shape[1])])
@@ -677,11 +677,7 @@ class FittedModel:
                 [g is not None and str(g).strip() != "" and str(g) != "nan" for g in given]
             )
             types[fill] = [str(g).strip() for g in given[fill]]
-        try:
-            self.regressors(dates[:1], temps[:1], types[:1])
-            self._check_types(dates, types)
-        except InputError as exc:
-            raise ScenarioError(exc.problem, where=exc.where, fix=exc.fix) from None
+        self._check_types(dates, types)
         return dates, temps, types
 
     def _check_types(self, dates, types) -> None:

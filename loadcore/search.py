@@ -229,17 +229,8 @@ def lag_polynomials(
     The AR side is (1 - phi_1 L - ...)(1 - Phi_1 L^s - ...), the MA side (1 + theta_1 L + ...)
     (1 + Theta_1 L^s + ...), the sign conventions of statsmodels' SARIMAX.
     """
-    phi, theta = params[:p], params[p : p + q]
-    sphi, stheta = params[p + q : p + q + P], params[p + q + P : p + q + P + Q]
-    ar = np.r_[1.0, -phi]
-    ma = np.r_[1.0, theta]
-    sar = np.zeros(P * period + 1)
-    sar[0] = 1.0
-    sar[period::period] = -sphi
-    sma = np.zeros(Q * period + 1)
-    sma[0] = 1.0
-    sma[period::period] = stheta
-    return np.convolve(ar, sar), np.convolve(ma, sma)
+    A, M, S, N = _split(np.asarray(params, float), p, q, P, Q, period)
+    return np.convolve(A, S), np.convolve(M, N)
 
 
 def roots_ok(poly: np.ndarray) -> bool:
@@ -337,8 +328,8 @@ def _split(theta: np.ndarray, p: int, q: int, P: int, Q: int, s: int):
 
 def _css_residuals(theta, w, p, q, P, Q, s, burn) -> np.ndarray:
     """Conditional residuals e = A(L)S(L) / (M(L)N(L)) w with zero pre-sample values."""
-    A, M, S, N = _split(theta, p, q, P, Q, s)
-    e = lfilter(np.convolve(A, S), np.convolve(M, N), w)[burn:]
+    ar, ma = lag_polynomials(theta, p, q, P, Q, s)
+    e = lfilter(ar, ma, w)[burn:]
     if not np.all(np.isfinite(e)) or np.max(np.abs(e)) > 1e6:
         return np.full(len(w) - burn, 1e3)
     return e
@@ -485,10 +476,7 @@ def gls_start(
     filter (an approximate GLS step; Cochrane and Orcutt, 1949, generalised), to start from."""
     if X is None or X.shape[1] == 0:
         return np.zeros(0)
-    A, M, S, N = _split(
-        np.asarray(arma, float), orders.p, orders.q, orders.P, orders.Q, orders.period
-    )
-    ar, ma = np.convolve(A, S), np.convolve(M, N)
+    ar, ma = lag_polynomials(arma, orders.p, orders.q, orders.P, orders.Q, orders.period)
     yd = difference(_fill_gaps(y), orders.d, orders.D, orders.period)
     Xd = np.column_stack(
         [difference(X[:, j], orders.d, orders.D, orders.period) for j in range(X.shape[1])]
