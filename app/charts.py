@@ -363,6 +363,19 @@ def fan_figure(
     return fig
 
 
+def _guide_lines(
+    fig: go.Figure, hlines: Mapping[str, float] | None, *, colour: str, dash: str, position: str
+) -> None:
+    """Labelled horizontal guide lines (bounds, thresholds) on a figure."""
+    for label, value in (hlines or {}).items():
+        fig.add_hline(
+            y=float(value),
+            line={"color": colour, "width": 1, "dash": dash},
+            annotation_text=label,
+            annotation_position=position,
+        )
+
+
 def bars_figure(
     x: Sequence,
     y: Sequence,
@@ -375,13 +388,7 @@ def bars_figure(
 ) -> go.Figure:
     """A plain bar chart (ACF bars, PIT histogram, peak distribution) with optional guide lines."""
     fig = go.Figure(go.Bar(x=list(x), y=list(y), marker={"color": colour}, showlegend=False))
-    for label, value in (hlines or {}).items():
-        fig.add_hline(
-            y=float(value),
-            line={"color": palette.OUTSIDE, "width": 1, "dash": "dash"},
-            annotation_text=label,
-            annotation_position="top right",
-        )
+    _guide_lines(fig, hlines, colour=palette.OUTSIDE, dash="dash", position="top right")
     fig.update_xaxes(title_text=x_title)
     fig.update_yaxes(title_text=y_title)
     _style(fig, height=height, legend_top=False)
@@ -435,13 +442,7 @@ def lines_figure(
                 name=column.replace("_", " "),
             )
         )
-    for label, value in (hlines or {}).items():
-        fig.add_hline(
-            y=float(value),
-            line={"color": palette.MUTED, "width": 1, "dash": "dot"},
-            annotation_text=label,
-            annotation_position="top left",
-        )
+    _guide_lines(fig, hlines, colour=palette.MUTED, dash="dot", position="top left")
     fig.update_xaxes(title_text=x_title)
     fig.update_yaxes(title_text=y_title)
     _style(fig, height=height)
