@@ -15,6 +15,7 @@ import shutil
 import signal
 import socket
 import subprocess
+import sys
 import time
 import urllib.request
 from pathlib import Path
@@ -77,9 +78,8 @@ def served_app(tmp_path):
     port = _free_port()
     log_path = tmp_path / "server.log"
     env = {**os.environ, "LOADCORE_LIBRARY": str(tmp_path / "library.sqlite")}
-    exe = shutil.which("loadcore")
-    command = [exe, "app", "--port", str(port)] if exe else None
-    assert command, "the `loadcore` command is not installed (pip install -e .)"
+    # The program of the venv the tests run in, not whatever `loadcore` is on PATH.
+    command = [sys.executable, "-m", "loadcore", "app", "--port", str(port)]
     with log_path.open("wb") as log:
         server = subprocess.Popen(
             command,
