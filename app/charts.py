@@ -16,6 +16,7 @@ from plotly.subplots import make_subplots
 
 from app import palette
 from loadcore.calendar import day_type_label
+from loadcore.levels import lower_column, upper_column
 
 Convert = Callable[[np.ndarray], np.ndarray]
 
@@ -231,7 +232,7 @@ def comparison_figure(
     history_tail: pd.Series,
     forecasts: Sequence,
     *,
-    levels: Sequence[int] = (80, 95),
+    levels: Sequence[float] = (80, 95),
     meeting: bool = False,
 ) -> go.Figure:
     """The tail of the history with each scenario's mean and its interval bands.
@@ -264,7 +265,8 @@ def comparison_figure(
         dates = pd.DatetimeIndex(frame["date"])
         group = f"scenario-{i}"
         for level in sorted(levels, reverse=True):
-            lower, upper = frame[f"lower_{level}"].to_numpy(), frame[f"upper_{level}"].to_numpy()
+            lower = frame[lower_column(level)].to_numpy()
+            upper = frame[upper_column(level)].to_numpy()
             fig.add_trace(
                 go.Scatter(
                     x=np.concatenate([dates, dates[::-1]]),

@@ -18,6 +18,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
+from loadcore import units
 from loadcore.calendar import CalendarSpec
 from loadcore.errors import HistoryError, LoadcoreError
 
@@ -252,30 +253,22 @@ def unit_symbol(unit: str | None = None) -> str:
 
 def to_display(values_c):
     """Temperatures in °C converted to the display unit (arrays, Series or floats)."""
-    if temp_unit() != "F":
-        return values_c
-    from loadcore.scenario import c_to_f
-
-    return c_to_f(values_c)
+    return units.to_unit(values_c, temp_unit())
 
 
 def from_display(values):
     """Temperatures typed in the display unit converted to °C."""
-    if temp_unit() != "F":
-        return values
-    from loadcore.scenario import f_to_c
-
-    return f_to_c(values)
+    return units.from_unit(values, temp_unit())
 
 
 def delta_to_display(delta_c: float) -> float:
     """A temperature difference in °C in the display unit (a °F step is 5/9 of a °C step)."""
-    return float(delta_c) * 9.0 / 5.0 if temp_unit() == "F" else float(delta_c)
+    return float(units.delta_to_unit(float(delta_c), temp_unit()))
 
 
 def delta_from_display(delta: float) -> float:
     """A temperature difference typed in the display unit, in °C."""
-    return float(delta) * 5.0 / 9.0 if temp_unit() == "F" else float(delta)
+    return float(units.delta_from_unit(float(delta), temp_unit()))
 
 
 def fmt_temp(value_c: float, digits: int = 1) -> str:
@@ -328,16 +321,18 @@ def out_of_range_lines(forecasts, range_c: tuple[float, float]) -> list[str]:
     temperature and how far outside the fitted range it lies."""
     from loadcore.export import out_of_range_days
 
-    table = out_of_range_days(list(forecasts), temp_unit=temp_unit())
+    unit = temp_unit()
+    table = out_of_range_days(list(forecasts), temp_unit=unit)
+    temp_col, by_col = units.temperature_column(unit), units.out_of_range_column(unit)
     low, high = (float(v) for v in range_c)
     lines = []
-    for row in table.itertuples(index=False):
-        by_c = abs(float(row.out_of_range_by_c))
-        temp_c = float(from_display(float(row.temperature)))
+    for _, row in table.iterrows():
+        temp_c = float(units.from_unit(float(row[temp_col]), unit))
         side = "above the hottest" if temp_c > high else "below the coldest"
         lines.append(
-            f"{row.scenario}, {pd.Timestamp(row.date):%a %Y-%m-%d}: {float(row.temperature):.1f} "
-            f"{unit_symbol()}, {fmt_delta(by_c)} {side} day the model was fitted on"
+            f"{row['scenario']}, {pd.Timestamp(row['date']):%a %Y-%m-%d}: {float(row[temp_col]):.1f} "
+            f"{unit_symbol()}, {abs(float(row[by_col])):.1f} {unit_symbol()} {side} day the model "
+            "was fitted on"
         )
     return lines
 

@@ -63,7 +63,7 @@ _WEEKDAY_SIMPLE = np.array(
 
 _HOW_TO_FIND_CODES = (
     "Use a two-letter ISO 3166-1 country code such as US, CA or GB, optionally followed by a "
-    "subdivision code, e.g. US-TX; the full list is printed by "
+    "subdivision code, e.g. US-TX, or 'none' for no public holidays; the full list is printed by "
     '`python -c "import holidays; print(holidays.list_supported_countries())"`'
 )
 
@@ -170,13 +170,19 @@ class Override:
         return cls(data["start"], data["end"], data["day_type"], data.get("label", ""))
 
 
-def parse_holidays(text: str) -> tuple[str, str | None]:
+#: Words that choose no public-holiday calendar at all (weekends and overrides only).
+NO_HOLIDAYS = ("none", "no", "off")
+
+
+def parse_holidays(text: str) -> tuple[str | None, str | None]:
     """Split a holiday-calendar code such as ``"US"`` or ``"US-TX"`` and check it exists.
+
+    ``"none"`` chooses no public holidays (weekends and overrides only).
 
     Returns
     -------
     (country, subdivision)
-        Upper-case country code and subdivision code (or ``None``).
+        Upper-case country code and subdivision code (or ``None``); ``(None, None)`` for none.
 
     Raises
     ------
@@ -188,6 +194,8 @@ def parse_holidays(text: str) -> tuple[str, str | None]:
         raise InputError(
             "No holiday calendar was given", where="holiday calendar", fix=_HOW_TO_FIND_CODES
         )
+    if raw.lower() in NO_HOLIDAYS:
+        return None, None
     country, _, subdivision = raw.partition("-")
     country = country.strip().upper()
     subdivision = subdivision.strip().upper() or None

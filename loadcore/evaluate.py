@@ -19,10 +19,7 @@ operator's procedures, local reliability standards and licensed engineering judg
 
 from __future__ import annotations
 
-import argparse
-import json
 import logging
-import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -30,7 +27,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from loadcore.errors import InputError, LoadcoreError, ScenarioError
+from loadcore import levels as interval_levels
+from loadcore import texts
+from loadcore.errors import InputError, ScenarioError
 from loadcore.scores import (
     WEEK_LAG,
     crps_ensemble,
@@ -44,9 +43,9 @@ from loadcore.scores import (
     sample_quantiles,
     seasonal_naive_mae,
 )
-from loadcore.weather import CAUTION, pool_trace_paths, temperature_traces
+from loadcore.weather import pool_trace_paths, temperature_traces
 
-__all__ = ["BacktestResult", "add_cli", "backtest", "origin_dates", "seasonal_naive"]
+__all__ = ["BacktestResult", "backtest", "origin_dates", "seasonal_naive"]
 
 log = logging.getLogger(__name__)
 
@@ -93,21 +92,9 @@ def _normal_mode(mode: str) -> str:
 
 
 def _level_probs(levels: Sequence[float]) -> list[tuple[float, float, float]]:
-    out = []
-    for level in levels:
-        value = float(level)
-        if not 0.0 < value < 100.0:
-            raise InputError(
-                f"interval level {level} is outside (0, 100)",
-                where="levels",
-                fix="Give levels in percent, such as 80 and 95",
-            )
-        out.append((value, (1.0 - value / 100.0) / 2.0, (1.0 + value / 100.0) / 2.0))
-    return out
-
-
-def _level_name(level: float) -> str:
-    return f"{level:g}"
+    """(level, lower probability, upper probability) for each level, parsed by loadcore.levels."""
+    parsed = interval_levels.parse_levels(levels, where="levels")
+    return [(lv, *interval_levels.tail_probabilities(lv)) for lv in parsed]
 
 
 def origin_dates(end, horizon: int, origins: int, span_days: int, start=None) -> pd.DatetimeIndex:
@@ -178,7 +165,7 @@ class BacktestResult:
     def to_text(self) -> str:
         """The table by horizon as fixed-width text, with the overall line and the caution."""
         cols = ["n", "mape", "naive_mape", "rmse", "naive_rmse", "mase", "naive_mase"]
-        cols += [f"coverage_{_level_name(lv)}" for lv in self.levels] + ["pinball", "crps"]
+        cols += [interval_levels.coverage_column(lv) for lv in self.levels] + ["pinball", "crps"]
         head = {
             "n": "days",
             "mape": "MAPE %",
@@ -191,10 +178,12 @@ class BacktestResult:
             "crps": "CRPS MW",
         }
         for lv in self.levels:
-            head[f"coverage_{_level_name(lv)}"] = f"in {_level_name(lv)}% band"
+            head[interval_levels.coverage_column(lv)] = (
+                f"in {interval_levels.level_label(lv)}% band"
+            )
         fmt = {"n": "{:.0f}", "mase": "{:.3f}", "naive_mase": "{:.3f}"}
         for lv in self.levels:
-            fmt[f"coverage_{_level_name(lv)}"] = "{:.0%}"
+            fmt[interval_levels.coverage_column(lv)] = "{:.0%}"
         rows = [["days ahead", *[head[c] for c in cols]]]
         for _, row in self.by_horizon.iterrows():
             rows.append(
@@ -221,7 +210,7 @@ class BacktestResult:
             f"Backtest, {s['mode_label']}: {s['n_origins']} origins from {s['first_origin']} to "
             f"{s['last_origin']}, {s['horizon']} days ahead each. Error model: {s['orders']}."
         )
-        return "\n".join([title, "", *lines, "", CAUTION])
+        return "\n".join([title, "", *lines, "", texts.PLANNING_CAUTION])
 
 
 def _cut(history, origin: pd.Timestamp):
@@ -254,10 +243,9 @@ def _scores_block(
     out["naive_mase"] = mae(y / scale, n / scale)
     losses = [pinball_loss(y, frame["median"].to_numpy(dtype=float), 0.5)]
     for level, lo_p, hi_p in levels:
-        name = _level_name(level)
-        lo = frame[f"lower_{name}"].to_numpy(dtype=float)
-        hi = frame[f"upper_{name}"].to_numpy(dtype=float)
-        out[f"coverage_{name}"] = interval_coverage(y, lo, hi)
+        lo = frame[interval_levels.lower_column(level)].to_numpy(dtype=float)
+        hi = frame[interval_levels.upper_column(level)].to_numpy(dtype=float)
+        out[interval_levels.coverage_column(level)] = interval_coverage(y, lo, hi)
         losses += [pinball_loss(y, lo, lo_p), pinball_loss(y, hi, hi_p)]
     out["pinball"] = float(np.nanmean(losses)) if ok.any() else float("nan")
     crps = frame["crps"].to_numpy(dtype=float)
@@ -403,14 +391,8 @@ def backtest(
             fc = model.forecast(scenario, levels=tuple(lv for lv, _, _ in level_probs)).frame
             table["mean"] = fc["mean"].to_numpy(dtype=float)
             table["median"] = fc["median"].to_numpy(dtype=float)
-            for level, _, _ in level_probs:
-                name = _level_name(level)
-                table[f"lower_{name}"] = fc[_forecast_column(fc, "lower", level)].to_numpy(
-                    dtype=float
-                )
-                table[f"upper_{name}"] = fc[_forecast_column(fc, "upper", level)].to_numpy(
-                    dtype=float
-                )
+            for column in interval_levels.interval_columns(lv for lv, _, _ in level_probs):
+                table[column] = fc[column].to_numpy(dtype=float)
             paths = np.asarray(model.sample_paths(scenario, EX_POST_PATHS, seed + i), dtype=float)
         else:
             try:
@@ -430,9 +412,8 @@ def backtest(
             table["mean"] = paths.mean(axis=0)
             table["median"] = qs[0]
             for j, (level, _, _) in enumerate(level_probs):
-                name = _level_name(level)
-                table[f"lower_{name}"] = qs[1 + 2 * j]
-                table[f"upper_{name}"] = qs[2 + 2 * j]
+                table[interval_levels.lower_column(level)] = qs[1 + 2 * j]
+                table[interval_levels.upper_column(level)] = qs[2 + 2 * j]
         table["naive"] = seasonal_naive(demand, origin, target)
         table["scale"] = seasonal_naive_mae(cut.frame["demand"].to_numpy(dtype=float), WEEK_LAG)
         table["crps"] = crps_ensemble(paths.T, actual)
@@ -461,12 +442,12 @@ def backtest(
         "last_origin": str(dates[-1].date()),
         "refit": refit,
         "orders": orders,
-        "levels": [float(lv) for lv, _, _ in level_probs],
+        "levels": [lv for lv, _, _ in level_probs],
         **overall,
         "skill_vs_naive": 1.0 - overall["mase"] / overall["naive_mase"]
         if overall["naive_mase"] and np.isfinite(overall["naive_mase"])
         else float("nan"),
-        "note": CAUTION,
+        "note": texts.PLANNING_CAUTION,
     }
     return BacktestResult(
         by_horizon=by_horizon,
@@ -474,107 +455,9 @@ def backtest(
         pit=np.concatenate(pits) if pits else np.empty(0),
         forecasts=forecasts,
         mode=mode,
-        levels=tuple(float(lv) for lv, _, _ in level_probs),
-    )
-
-
-def _forecast_column(frame: pd.DataFrame, side: str, level: float) -> str:
-    for name in (
-        f"{side}_{level:g}",
-        f"{side}_{int(level)}" if float(level).is_integer() else None,
-    ):
-        if name and name in frame.columns:
-            return name
-    raise LoadcoreError(
-        f"the forecast has no {side} bound for the {level:g} % level",
-        where="forecast",
-        fix="Report this as a bug",
+        levels=tuple(lv for lv, _, _ in level_probs),
     )
 
 
 def _describe_orders(model) -> str:
     return model.orders.describe()
-
-
-# ---------------------------------------------------------------------------------------------------
-# Command line
-
-
-def _cli_progress():
-    """The CLI's progress bar (stderr); imported late because the CLI imports this module."""
-    from loadcore.cli import ProgressBar
-
-    return ProgressBar("origins")
-
-
-def _json_ready(value):
-    if isinstance(value, float) and not math.isfinite(value):
-        return None
-    if isinstance(value, (np.floating, np.integer)):
-        return _json_ready(value.item())
-    return value
-
-
-def _run_backtest(args: argparse.Namespace) -> int:
-    from loadcore.history import read_history
-    from loadcore.model import FitSettings
-
-    history = read_history(args.history)
-    result = backtest(
-        history,
-        FitSettings(search=args.search),
-        horizon=args.horizon,
-        origins=args.origins,
-        mode=args.mode,
-        seed=args.seed,
-        progress=None if args.json else _cli_progress(),
-    )
-    if args.json:
-        table = result.by_horizon.astype(object).map(_json_ready)
-        payload = {
-            "summary": {k: _json_ready(v) for k, v in result.summary.items()},
-            "by_horizon": table.to_dict(orient="records"),
-        }
-        print(json.dumps(payload, indent=2))
-    else:
-        print(result.to_text())
-    return 0
-
-
-def add_cli(subparsers) -> argparse.ArgumentParser:
-    """Add the ``backtest`` command to an ``argparse`` sub-parser set.
-
-    ``backtest HISTORY [--horizon 14] [--origins 20] [--mode ex-post|ex-ante]
-    [--search quick|thorough] [--seed S] [--json]``. The command's function is stored as the
-    parser default ``handler`` and returns an exit code.
-    """
-    parser = subparsers.add_parser(
-        "backtest",
-        help="score the model on the recent past from rolling forecast origins",
-        description=(
-            "Choose the error model on the older part of a history, then forecast the last year "
-            "from evenly spaced origins and score the forecasts by days ahead, beside the "
-            "same-weekday-last-week forecast. " + CAUTION
-        ),
-    )
-    parser.add_argument(
-        "history", metavar="HISTORY", help="daily history CSV (date, demand, temperature)"
-    )
-    parser.add_argument("--horizon", type=int, default=14, help="days ahead (default 14)")
-    parser.add_argument("--origins", type=int, default=20, help="number of origins (default 20)")
-    parser.add_argument(
-        "--mode",
-        choices=("ex-post", "ex-ante"),
-        default="ex-post",
-        help="actual temperatures (ex-post) or weather ensembles (ex-ante); default ex-post",
-    )
-    parser.add_argument(
-        "--search",
-        choices=("quick", "thorough"),
-        default="quick",
-        help="order search (default quick)",
-    )
-    parser.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    parser.add_argument("--json", action="store_true", help="print the results as JSON")
-    parser.set_defaults(handler=_run_backtest)
-    return parser

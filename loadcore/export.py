@@ -23,7 +23,8 @@ from typing import Any, Protocol
 import numpy as np
 import pandas as pd
 
-from loadcore import __version__
+from loadcore import __version__, texts, units
+from loadcore import levels as interval_levels
 from loadcore.errors import InputError
 
 log = logging.getLogger(__name__)
@@ -34,26 +35,11 @@ FORMULA_PREFIXES = ("=", "+", "-", "@", "\t", "\r")
 DEFAULT_UPLOAD_LIMIT_MB = 50
 BYTES_PER_MB = 1024 * 1024
 
-PLANNING_CAUTION = (
-    "This is a planning aid, not an operating or reliability-compliance tool. Defer to the system "
-    "operator's procedures, local reliability standards and licensed engineering judgement."
-)
-INTERVAL_CAUTION = (
-    "Prediction intervals treat each scenario's temperatures as known: they cover the model's own "
-    "uncertainty, not the uncertainty of the weather itself."
-)
-RANGE_CAUTION = (
-    "Days marked outside the fitted range have temperatures beyond those seen in the history the "
-    "model was fitted on; the forecast there is an extrapolation and deserves extra scrutiny."
-)
-SUM_CAUTION_PEAK = (
-    "The sum of daily means adds up daily peak demand over the horizon. It is a convenient size "
-    "measure for comparing scenarios of the same length; it is not energy."
-)
-SUM_CAUTION_TOTAL = (
-    "The sum of daily means adds up daily demand totals over the horizon, which is energy over the "
-    "horizon in the history's demand unit."
-)
+PLANNING_CAUTION = texts.PLANNING_CAUTION
+INTERVAL_CAUTION = texts.INTERVAL_CAUTION
+RANGE_CAUTION = texts.RANGE_CAUTION
+SUM_CAUTION_PEAK = texts.SUM_CAUTION_PEAK
+SUM_CAUTION_TOTAL = texts.SUM_CAUTION_TOTAL
 
 # Our own palette for the brief: history in charcoal, scenarios in these, warnings in brick red.
 HISTORY_COLOUR = "#3b3f45"
@@ -259,12 +245,6 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_UPLOAD_LIMIT_MB) -
 # --------------------------------------------------------------------------------------------
 
 
-def _level_label(level: Any) -> str:
-    # Same spelling as loadcore.model: 80 -> "80", 97.5 -> "97_5".
-    value = float(level)
-    return str(int(value)) if value.is_integer() else str(value).replace(".", "_")
-
-
 def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
     """The forecast's frame with ``date`` as a column, checked for the columns export needs."""
     name = getattr(forecast, "scenario_name", None)
@@ -279,9 +259,7 @@ def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
         if frame.index.name == "date" or isinstance(frame.index, pd.DatetimeIndex):
             frame = frame.rename_axis("date").reset_index()
     needed = ["date", "temperature_c", "day_type", "mean", "median", "out_of_range"]
-    needed += [
-        f"{side}_{_level_label(lv)}" for lv in _levels(forecast) for side in ("lower", "upper")
-    ]
+    needed += interval_levels.interval_columns(_levels(forecast))
     missing = [c for c in needed if c not in frame.columns]
     if missing:
         raise InputError(
@@ -298,13 +276,9 @@ def _forecast_table(forecast: Any, position: int) -> pd.DataFrame:
 
 def _levels(forecast: Any) -> tuple[float, ...]:
     levels = getattr(forecast, "levels", None) or ()
-    try:
-        return tuple(sorted(float(lv) for lv in levels))
-    except (TypeError, ValueError) as exc:
-        raise InputError(
-            f"The forecast's interval levels are not numbers: {levels!r}",
-            fix="Use levels such as (80, 95)",
-        ) from exc
+    if not levels:
+        return ()
+    return interval_levels.parse_levels(levels, where="forecast levels")
 
 
 def _names(forecasts: Sequence[Any]) -> list[str]:
@@ -333,56 +307,45 @@ def _as_list(forecasts: Sequence[Any] | Any) -> list[Any]:
     return list(forecasts)
 
 
-def c_to_f(temperature_c: Any) -> Any:
-    """Degrees Celsius to degrees Fahrenheit (exact definition, F = C x 9/5 + 32)."""
-    return temperature_c * 9.0 / 5.0 + 32.0
-
-
-def _check_unit(temp_unit: str) -> str:
-    unit = str(temp_unit).strip().upper().lstrip("°")
-    if unit not in ("C", "F"):
-        raise InputError(
-            f"Unknown temperature unit {temp_unit!r}",
-            fix='use "C" for Celsius or "F" for Fahrenheit',
-        )
-    return unit
-
-
-def forecast_frame(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -> pd.DataFrame:
-    """One tidy table of every scenario's forecast, ready for CSV.
+def forecast_table(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -> pd.DataFrame:
+    """The one forecast table: every scenario's daily forecast, ready for CSV and display.
 
     Parameters
     ----------
     forecasts : sequence of Forecast
-        Forecasts with distinct scenario names.
+        Forecasts with distinct scenario names (a model Forecast or one reloaded from the library).
     temp_unit : {"C", "F"}, default "C"
-        Unit of the ``temperature`` column. ``out_of_range_by_c`` stays in °C.
+        Unit of the temperature columns, named in the column: ``temperature_c`` and
+        ``out_of_range_by_c``, or ``temperature_f`` and ``out_of_range_by_f``.
 
     Returns
     -------
     pandas.DataFrame
-        Columns exactly ``scenario``, ``date``, ``temperature``, ``day_type``, ``mean``, ``median``,
-        then ``lower_L``, ``upper_L`` for each interval level L (ascending, over the union of the
-        forecasts' levels; empty where a forecast lacks a level), ``out_of_range``,
-        ``out_of_range_by_c``. Demand columns are in the history's demand unit (MW for daily peak).
-        ``attrs["temp_unit"]`` records the temperature unit.
+        Columns exactly ``scenario``, ``date``, ``temperature_<u>``, ``day_type``, ``mean``,
+        ``median``, then ``lower_L``, ``upper_L`` for each interval level L (ascending, over the
+        union of the forecasts' levels; empty where a forecast lacks a level), ``out_of_range``,
+        ``out_of_range_by_<u>`` and ``sparse_temperature``. Demand columns are in the history's
+        demand unit (MW for daily peak). ``attrs["temp_unit"]`` records the temperature unit.
     """
-    unit = _check_unit(temp_unit)
+    unit = units.parse_unit(temp_unit)
+    temp_col = units.temperature_column(unit)
+    by_col = units.out_of_range_column(unit)
     items = _as_list(forecasts)
     names = _names(items)
     levels = sorted({lv for fc in items for lv in _levels(fc)})
-    level_cols = [f"{side}_{_level_label(lv)}" for lv in levels for side in ("lower", "upper")]
-    columns = ["scenario", "date", "temperature", "day_type", "mean", "median"]
-    columns += level_cols + ["out_of_range", "out_of_range_by_c"]
+    level_cols = interval_levels.interval_columns(levels)
+    columns = ["scenario", "date", temp_col, "day_type", "mean", "median"]
+    columns += level_cols + ["out_of_range", by_col, "sparse_temperature"]
     parts = []
     for i, (fc, name) in enumerate(zip(items, names, strict=True)):
         frame = _forecast_table(fc, i)
         temps = frame["temperature_c"].astype(float)
+        by_c = frame["out_of_range_by_c"].astype(float).fillna(0.0)
         part = pd.DataFrame(
             {
                 "scenario": name,
                 "date": frame["date"].to_numpy(),
-                "temperature": (c_to_f(temps) if unit == "F" else temps).to_numpy(),
+                temp_col: units.to_unit(temps, unit).to_numpy(),
                 "day_type": frame["day_type"].astype(str).to_numpy(),
                 "mean": frame["mean"].astype(float).to_numpy(),
                 "median": frame["median"].astype(float).to_numpy(),
@@ -391,7 +354,9 @@ def forecast_frame(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -> p
         for col in level_cols:
             part[col] = frame[col].astype(float).to_numpy() if col in frame else np.nan
         part["out_of_range"] = frame["out_of_range"].astype(bool).to_numpy()
-        part["out_of_range_by_c"] = frame["out_of_range_by_c"].astype(float).fillna(0.0).to_numpy()
+        part[by_col] = units.delta_to_unit(by_c, unit).to_numpy()
+        sparse = frame["sparse_temperature"] if "sparse_temperature" in frame else False
+        part["sparse_temperature"] = pd.Series(sparse, index=frame.index).astype(bool).to_numpy()
         parts.append(part[columns])
     out = pd.concat(parts, ignore_index=True)
     out["scenario"] = out["scenario"].astype(object)
@@ -522,13 +487,14 @@ def out_of_range_days(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -
     Returns
     -------
     pandas.DataFrame
-        Columns ``scenario``, ``date``, ``temperature`` (chosen unit), ``out_of_range_by_c`` (°C
-        beyond the nearest end of the fitted range), one row per flagged day.
+        Columns ``scenario``, ``date``, ``temperature_<u>`` and ``out_of_range_by_<u>`` (degrees
+        beyond the nearest end of the fitted range) in the chosen unit, one row per flagged day.
     """
-    table = forecast_frame(forecasts, temp_unit=temp_unit)
-    flagged = table.loc[table["out_of_range"], ["scenario", "date", "temperature"]].copy()
-    flagged["out_of_range_by_c"] = table.loc[table["out_of_range"], "out_of_range_by_c"]
-    flagged.attrs["temp_unit"] = table.attrs["temp_unit"]
+    table = forecast_table(forecasts, temp_unit=temp_unit)
+    unit = table.attrs["temp_unit"]
+    keep = ["scenario", "date", units.temperature_column(unit), units.out_of_range_column(unit)]
+    flagged = table.loc[table["out_of_range"], keep].copy()
+    flagged.attrs["temp_unit"] = unit
     return flagged.reset_index(drop=True)
 
 
@@ -551,7 +517,7 @@ def describe_orders(order: Sequence[int], seasonal_order: Sequence[int]) -> str:
     return Orders(p, d, q, big_p, big_d, big_q, period).describe()
 
 
-def summarise_model(model: Any) -> dict[str, str]:
+def summarise_model(model: Any, temp_unit: str = "C") -> dict[str, str]:
     """A short plain-words summary of a fitted model for the meeting brief.
 
     Reads the attributes of the FittedModel contract that are present; missing ones are left out.
@@ -584,7 +550,9 @@ def summarise_model(model: Any) -> dict[str, str]:
     if trange is not None:
         try:
             low, high = (float(x) for x in trange)
-            out["Fitted temperature range"] = f"{low:.1f} °C to {high:.1f} °C"
+            out["Fitted temperature range"] = units.format_range(
+                low, high, units.parse_unit(temp_unit)
+            )
         except (TypeError, ValueError):
             log.debug("temperature range not readable: %r", trange)
     describe = getattr(model, "describe_errors", None)
@@ -668,12 +636,12 @@ def _figure_html(
         group = f"s{i}"
         levels = sorted(_levels(fc), reverse=True)
         for j, level in enumerate(levels):
-            lab = _level_label(level)
+            lab = interval_levels.level_label(level)
             alpha = 0.12 + 0.14 * j
             fig.add_trace(
                 go.Scatter(
                     x=frame["date"],
-                    y=frame[f"upper_{lab}"].astype(float),
+                    y=frame[interval_levels.upper_column(level)].astype(float),
                     mode="lines",
                     line={"width": 0, "color": colour},
                     legendgroup=group,
@@ -684,7 +652,7 @@ def _figure_html(
             fig.add_trace(
                 go.Scatter(
                     x=frame["date"],
-                    y=frame[f"lower_{lab}"].astype(float),
+                    y=frame[interval_levels.lower_column(level)].astype(float),
                     mode="lines",
                     line={"width": 0, "color": colour},
                     fill="tonexty",
@@ -708,8 +676,8 @@ def _figure_html(
         )
         flagged = frame[frame["out_of_range"].astype(bool)]
         if not flagged.empty:
-            temps = flagged["temperature_c"].astype(float)
-            shown = c_to_f(temps) if unit == "F" else temps
+            shown = units.to_unit(flagged["temperature_c"].astype(float), unit)
+            by = units.delta_to_unit(flagged["out_of_range_by_c"].astype(float), unit)
             fig.add_trace(
                 go.Scatter(
                     x=flagged["date"],
@@ -723,13 +691,13 @@ def _figure_html(
                     },
                     legendgroup=group,
                     name=f"{label}: outside fitted temperatures",
-                    customdata=np.column_stack(
-                        [shown.to_numpy(), flagged["out_of_range_by_c"].astype(float).to_numpy()]
-                    ),
+                    customdata=np.column_stack([shown.to_numpy(), by.to_numpy()]),
                     hovertemplate=(
                         "%{x|%Y-%m-%d}: %{customdata[0]:.1f} °"
                         + unit
-                        + ", %{customdata[1]:.1f} °C outside<extra>"
+                        + ", %{customdata[1]:.1f} °"
+                        + unit
+                        + " outside<extra>"
                         + label
                         + "</extra>"
                     ),
@@ -867,7 +835,7 @@ def meeting_brief_html(
     str
         A complete HTML document.
     """
-    unit = _check_unit(temp_unit)
+    unit = units.parse_unit(temp_unit)
     items = _as_list(forecasts)
     names = _names(items)
     summary = comparison_summary(items, base_name, demand_unit=demand_unit, demand_kind=demand_kind)
@@ -916,15 +884,15 @@ def meeting_brief_html(
             "<p>No scenario day lies outside the temperature range the model was fitted on.</p>"
         )
     else:
+        temp_col, by_col = units.temperature_column(unit), units.out_of_range_column(unit)
         range_rows = [
             [
-                r.scenario,
-                f"{r.date:%Y-%m-%d}",
-                f"{r.temperature:.1f} °{unit}",
-                f"{r.out_of_range_by_c:.1f} °C"
-                + (f" ({r.out_of_range_by_c * 1.8:.1f} °F)" if unit == "F" else ""),
+                row["scenario"],
+                f"{row['date']:%Y-%m-%d}",
+                f"{row[temp_col]:.1f} {units.symbol(unit)}",
+                f"{row[by_col]:.1f} {units.symbol(unit)}",
             ]
-            for r in flagged.itertuples(index=False)
+            for _, row in flagged.iterrows()
         ]
         range_html = f'<p class="caution">{html.escape(RANGE_CAUTION)}</p>' + _table(
             ["Scenario", "Date", "Temperature", "How far outside"], range_rows
@@ -940,7 +908,7 @@ def meeting_brief_html(
         messages: list[str] = []
         if callable(warnings_fn):
             try:
-                messages = [str(w) for w in (warnings_fn() or [])]
+                messages = [str(w) for w in (warnings_fn(unit) or [])]
             except Exception:  # noqa: BLE001 - warnings are extra; never fail the brief on them
                 log.exception("forecast warnings failed for %s", name)
         if messages:

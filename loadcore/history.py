@@ -19,13 +19,13 @@ import re
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from functools import lru_cache
-from pathlib import Path
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from loadcore.errors import HistoryError
+from loadcore import files
+from loadcore.errors import HistoryError, InputError
 
 __all__ = [
     "History",
@@ -382,52 +382,31 @@ def _source_label(source: Any) -> str:
 
 
 def _read_text(source: Any, issues: _Collector) -> str | None:
-    """Text of a path, bytes or file-like object; None (with an error) if it cannot be read."""
+    """Text of a path, bytes or file-like object; None (with an error) if it cannot be read.
+
+    The one file policy of :mod:`loadcore.files` applies: regular files only, a size cap checked
+    before reading, spreadsheets and binary data recognised, one list of encodings.
+    """
     label = _source_label(source)
-    if isinstance(source, (str, os.PathLike)):
-        path = Path(source)
-        try:
-            data: bytes | str = path.read_bytes()
-        except FileNotFoundError:
-            issues.add(
-                "error",
-                f"The history file {str(path)!r} does not exist",
-                fix="Check the path and file name",
-            )
-            return None
-        except OSError as exc:
-            issues.add(
-                "error",
-                f"The history file {str(path)!r} could not be read ({exc.strerror or exc})",
-                fix="Check that the file is not open elsewhere and that you may read it",
-            )
-            return None
-    elif isinstance(source, (bytes, bytearray, memoryview)):
-        data = bytes(source)
-    elif hasattr(source, "read"):
-        data = source.read()
-    else:
+    if isinstance(source, str) and ("\n" in source or "\r" in source):
+        return source
+    try:
+        data, _ = files.read_bytes(source, what="history file")
+        if isinstance(data, str):  # pragma: no cover - read_bytes returns bytes
+            return data
+        decoded = files.decode(data, what="history file", label=label)
+    except InputError as exc:
         issues.add(
-            "error",
-            f"A history cannot be read from a {type(source).__name__}",
-            fix="Give a file path, an open file, bytes or a DataFrame",
+            "error", exc.problem + (f" ({exc.where})" if exc.where else ""), fix=exc.fix or ""
         )
         return None
-    if isinstance(data, str):
-        return data
-    for encoding in ("utf-8-sig", "cp1252", "latin-1"):
-        try:
-            text = data.decode(encoding)
-        except UnicodeDecodeError:
-            continue
-        if encoding != "utf-8-sig":
-            issues.add(
-                "info",
-                f"The file {label!r} is not UTF-8; it was read as {encoding}",
-                fix="Save the file as UTF-8 to avoid misread characters",
-            )
-        return text
-    return None  # pragma: no cover - latin-1 decodes any bytes
+    if decoded.fallback:
+        issues.add(
+            "info",
+            f"The file {label!r} is not UTF-8; it was read as {decoded.encoding}",
+            fix="Save the file as UTF-8 to avoid misread characters",
+        )
+    return decoded.text
 
 
 def _norm(name: str) -> str:

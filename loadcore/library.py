@@ -20,26 +20,26 @@ The file location is an argument, else the ``LOADCORE_LIBRARY`` environment vari
 
 from __future__ import annotations
 
-import argparse
 import difflib
 import json
 import logging
 import math
 import os
 import sqlite3
-import sys
 import unicodedata
-from collections.abc import Iterator, Mapping, Sequence
+from collections.abc import Iterator, Mapping
 from contextlib import contextmanager
-from dataclasses import dataclass, field, fields, is_dataclass
-from datetime import UTC, date, datetime
+from dataclasses import dataclass, field, fields
+from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from loadcore.errors import InputError, LoadcoreError
+from loadcore import levels as interval_levels
+from loadcore import plainjson, texts
+from loadcore.errors import InputError
 
 log = logging.getLogger(__name__)
 
@@ -53,7 +53,6 @@ __all__ = [
     "ScenarioLibrary",
     "ScenarioListing",
     "StoredForecast",
-    "add_cli",
     "default_library_path",
     "entry_from_forecast",
     "is_current",
@@ -179,9 +178,14 @@ class StoredForecast:
     note: str
     warning_texts: tuple[str, ...] = ()
 
-    def warnings(self) -> list[str]:
-        """The warnings the forecast carried when it was saved."""
-        return list(self.warning_texts)
+    temperature_range_c: tuple[float, float] | None = None
+
+    def warnings(self, temp_unit: str = "C") -> list[str]:
+        """The forecast's warnings in ``temp_unit``; the texts saved with it when the saved
+        forecast does not record the fitted temperature range (older libraries)."""
+        if self.temperature_range_c is None or "temperature_c" not in self.frame:
+            return list(self.warning_texts)
+        return texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
 
 
 @dataclass(frozen=True)
@@ -228,15 +232,8 @@ class SavedScenario:
         """Interval levels of the stored forecast, percent."""
         levels = self.context.get("levels")
         if levels:
-            return tuple(float(x) for x in levels)
-        found = []
-        for column in self.forecast.columns:
-            if str(column).startswith("lower_"):
-                try:
-                    found.append(float(str(column)[len("lower_") :]))
-                except ValueError:
-                    continue
-        return tuple(sorted(found))
+            return interval_levels.parse_levels(levels, where="saved forecast levels")
+        return interval_levels.levels_in_columns(self.forecast.columns)
 
     def to_forecast(self) -> StoredForecast:
         """The stored forecast in the shape export functions read."""
@@ -246,6 +243,7 @@ class SavedScenario:
             scenario_name=self.name,
             note=self.note,
             warning_texts=tuple(str(w) for w in self.context.get("warnings", ()) or ()),
+            temperature_range_c=_range_or_none(self.context.get("temperature_range_c")),
         )
 
     def scenario(self):
@@ -265,6 +263,14 @@ class SavedScenario:
         return frame.set_index("date")
 
 
+def _range_or_none(value: Any) -> tuple[float, float] | None:
+    try:
+        low, high = (float(v) for v in value)
+    except (TypeError, ValueError):
+        return None
+    return (low, high) if math.isfinite(low) and math.isfinite(high) else None
+
+
 # --------------------------------------------------------------------------------------------
 # JSON helpers
 # --------------------------------------------------------------------------------------------
@@ -272,43 +278,7 @@ class SavedScenario:
 
 def _json_value(value: Any, where: str) -> Any:
     """A plain JSON value for one cell or setting; refuses infinities, maps NaN/NaT to null."""
-    if value is None:
-        return None
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        number = float(value)
-        if math.isnan(number):
-            return None
-        if math.isinf(number):
-            raise InputError(
-                "The value is infinite and cannot be stored",
-                where=where,
-                fix="Re-run the forecast; check the scenario temperatures are finite",
-            )
-        return number
-    if isinstance(value, str):
-        return value
-    if value is pd.NaT:
-        return None
-    if isinstance(value, pd.Timestamp):
-        return value.strftime("%Y-%m-%d") if value == value.normalize() else value.isoformat()
-    if isinstance(value, (datetime, date)):
-        return value.isoformat()
-    if isinstance(value, (np.datetime64,)):
-        return _json_value(pd.Timestamp(value), where)
-    if is_dataclass(value) and not isinstance(value, type):
-        return {f.name: _json_value(getattr(value, f.name), where) for f in fields(value)}
-    if isinstance(value, Mapping):
-        return {str(k): _json_value(v, where) for k, v in value.items()}
-    if isinstance(value, (list, tuple, set, frozenset, np.ndarray, pd.Index, pd.Series)):
-        items = sorted(value, key=str) if isinstance(value, (set, frozenset)) else list(value)
-        return [_json_value(v, where) for v in items]
-    if pd.api.types.is_scalar(value) and pd.isna(value):
-        return None
-    return str(value)
+    return plainjson.to_plain(value, nonfinite="error", where=where)
 
 
 def settings_to_dict(settings: Any) -> dict[str, Any]:
@@ -1088,6 +1058,7 @@ def entry_from_forecast(
         ),
         "demand_kind": str(getattr(hist_settings, "subdaily_demand", "peak")),
         "warnings": warnings,
+        "temperature_range_c": list(getattr(forecast, "temperature_range_c", ()) or ()),
     }
     return ScenarioEntry(
         name=name if name is not None else str(getattr(scenario, "name", "")),
@@ -1112,184 +1083,3 @@ def is_current(saved: SavedScenario, model: Any) -> bool:
     return settings_to_dict(getattr(model, "settings", {})) == settings_to_dict(
         saved.model_settings
     )
-
-
-# --------------------------------------------------------------------------------------------
-# Command line
-# --------------------------------------------------------------------------------------------
-
-
-def _open(args: argparse.Namespace) -> ScenarioLibrary:
-    return ScenarioLibrary(args.db)
-
-
-def _cli_save(args: argparse.Namespace) -> int:
-    from loadcore.model import load_model
-    from loadcore.scenario import read_scenario_csv
-
-    library = _open(args)
-    if args.name in library:  # refuse before the forecast work; save() checks again
-        raise InputError(
-            f"A saved scenario named {args.name!r} already exists",
-            where=f"library {library.path}",
-            fix="Choose another --name",
-        )
-    model = load_model(args.model)
-    scenario = read_scenario_csv(
-        args.scenario_csv,
-        temp_unit=args.temp_unit,
-        name=args.name,
-        model_end=getattr(model, "history_end", None),
-    )
-    forecast = model.forecast(scenario)
-    entry = entry_from_forecast(
-        forecast, scenario=scenario, model=model, name=args.name, note=args.note, author=args.author
-    )
-    saved = library.save(entry)
-    print(
-        f"Saved {saved.name!r} (version {saved.version}, {len(saved.forecast)} days) "
-        f"to {library.path}."
-    )
-    return 0
-
-
-def _cli_list(args: argparse.Namespace) -> int:
-    items = _open(args).list(args.search)
-    if args.json:
-        print(json.dumps([item.to_dict() for item in items], indent=2, ensure_ascii=False))
-        return 0
-    if not items:
-        print("The library holds no saved scenarios." if not args.search else "No match.")
-        return 0
-    width = min(max(len(item.name) for item in items), 40)
-    for item in items:
-        print(
-            f"{item.name:<{width}}  v{item.version:<3} {item.first_date} to {item.last_date}  "
-            f"changed {item.changed_utc}" + (f"  by {item.author}" if item.author else "")
-        )
-    return 0
-
-
-def _write_file(path: Path, data: bytes) -> None:
-    tmp = path.with_name(f".{path.name}.part")
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        tmp.write_bytes(data)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise InputError(
-            f"The file cannot be written: {exc.strerror or exc}",
-            where=f"file {path}",
-            fix="Choose a folder you can write to",
-        ) from None
-
-
-def _cli_export(args: argparse.Namespace) -> int:
-    from loadcore.export import forecast_frame, meeting_brief_html, to_csv_bytes
-
-    library = _open(args)
-    saved = [library.get(name) for name in args.names]
-    out = Path(args.out)
-    suffix = out.suffix.lower()
-    forecasts = [s.to_forecast() for s in saved]
-    if suffix == ".csv":
-        data = to_csv_bytes(forecast_frame(forecasts, temp_unit=args.temp_unit))
-    elif suffix in (".html", ".htm"):
-        first = saved[0]
-        period = first.context.get("history_period") or []
-        period_text = (
-            f"Model history {period[0]} to {period[1]}; scenarios from "
-            f"{min(s.forecast['date'].min() for s in saved):%Y-%m-%d} to "
-            f"{max(s.forecast['date'].max() for s in saved):%Y-%m-%d}."
-            if len(period) == 2
-            else "Model history period not recorded."
-        )
-        text = meeting_brief_html(
-            forecasts,
-            history_tail=first.history_tail(),
-            model_summary=first.context.get("model_summary") or {},
-            base_name=first.name,
-            title=args.title or f"Demand scenarios: {', '.join(s.name for s in saved)}",
-            period_text=period_text,
-            temp_unit=args.temp_unit,
-            demand_unit=str(first.context.get("demand_unit", "MW")),
-            demand_kind=str(first.context.get("demand_kind", "peak")),
-        )
-        data = text.encode("utf-8")
-    else:
-        raise InputError(
-            f"Cannot tell the export format from {out.name!r}",
-            where="--out",
-            fix="End the file name with .csv or .html",
-        )
-    _write_file(out, data)
-    print(f"Wrote {out}.")
-    return 0
-
-
-def add_cli(subparsers: Any) -> argparse.ArgumentParser:
-    """Add the ``scenarios`` command (``save``, ``list``, ``export``) to an argparse sub-parser set.
-
-    ``scenarios save SCENARIO.csv --name NAME --model MODEL.json [--db FILE] [--note TEXT]
-    [--author TEXT] [--temp-unit C|F]`` forecasts the scenario with the model and stores it;
-    ``scenarios list [--db FILE] [--json] [--search TEXT]``; ``scenarios export NAME [NAME ...]
-    --out FILE.csv|FILE.html [--db FILE] [--temp-unit C|F] [--title TEXT]`` (the first name is the
-    base of the comparison). Each command's function is the parser default ``func``, returns an exit
-    code and lets :class:`~loadcore.errors.LoadcoreError` reach the caller.
-    """
-    parser = subparsers.add_parser(
-        "scenarios",
-        help="save, list and export scenarios in the scenario library",
-        description=(
-            "Keep scenarios and their forecasts in a library file (default $"
-            + ENV_VAR
-            + " or ~/.loadcore/scenarios.sqlite). A planning aid, not an operating or "
-            "reliability-compliance tool."
-        ),
-    )
-    commands = parser.add_subparsers(dest="scenarios_command", metavar="ACTION")
-    commands.required = True
-
-    def add_db(p: argparse.ArgumentParser) -> None:
-        p.add_argument("--db", metavar="FILE", default=None, help="the library file")
-
-    save = commands.add_parser("save", help="forecast a scenario file and store it")
-    save.add_argument("scenario_csv", metavar="SCENARIO.csv", help="date, temperature[, day_type]")
-    save.add_argument("--name", required=True, help="name in the library")
-    save.add_argument("--model", required=True, metavar="MODEL.json", help="a saved model")
-    add_db(save)
-    save.add_argument("--note", default="", help="free text kept with the scenario")
-    save.add_argument("--author", default="", help="who saved it")
-    save.add_argument(
-        "--temp-unit", choices=("C", "F"), default="C", help="unit of the temperature column"
-    )
-    save.set_defaults(func=_cli_save)
-
-    listing = commands.add_parser("list", help="list saved scenarios")
-    add_db(listing)
-    listing.add_argument("--json", action="store_true", help="print a JSON list")
-    listing.add_argument("--search", default=None, help="only names, notes or authors with this")
-    listing.set_defaults(func=_cli_list)
-
-    export = commands.add_parser("export", help="write saved scenarios as CSV or an HTML brief")
-    export.add_argument("names", nargs="+", metavar="NAME", help="saved scenario(s); first = base")
-    add_db(export)
-    export.add_argument("--out", required=True, metavar="FILE", help="FILE.csv or FILE.html")
-    export.add_argument(
-        "--temp-unit", choices=("C", "F"), default="C", help="unit for temperatures shown"
-    )
-    export.add_argument("--title", default=None, help="heading of the HTML brief")
-    export.set_defaults(func=_cli_export)
-    return parser
-
-
-def main(argv: Sequence[str] | None = None) -> int:
-    """Run the ``scenarios`` commands on their own (the ``loadcore`` command includes them)."""
-    parser = argparse.ArgumentParser(prog="loadcore-scenarios")
-    add_cli(parser.add_subparsers(dest="command", required=True))
-    args = parser.parse_args(argv)
-    try:
-        return int(args.func(args))
-    except LoadcoreError as exc:
-        sys.stderr.write(f"error: {exc}\n")
-        return 2

@@ -24,7 +24,8 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from . import __version__
+from . import __version__, files, plainjson, texts, units
+from . import levels as interval_levels
 from .calendar import BASE_TYPE, CalendarSpec, day_type_label, day_types
 from .errors import InputError, LoadcoreError, ModelError, ScenarioError
 from .search import (
@@ -55,16 +56,24 @@ MAX_HORIZON_DAYS = 90
 #: Ljung-Box lag for daily data: twice the weekly period (common practice, no source).
 LJUNG_BOX_LAG = 2 * WEEKLY_PERIOD
 
-#: A scenario temperature inside the fitted range but with fewer than this many history days
-#: within +/- SPARSE_HALF_WIDTH_C is flagged as thinly observed (our choice, documented).
-SPARSE_MIN_DAYS = 10
-SPARSE_HALF_WIDTH_C = 1.5
+#: Thin-data flag of scenario temperatures (see loadcore.texts).
+SPARSE_MIN_DAYS = texts.SPARSE_MIN_DAYS
+SPARSE_HALF_WIDTH_C = texts.SPARSE_HALF_WIDTH_C
 
 #: How many screened candidates each search refits by exact likelihood (our choice, measured:
 #: the exact winner was inside the screening top three in every benchmark run).
 REFIT_COUNT = {"quick": 2, "thorough": 4}
 
 MODEL_FILE_KIND = "loadcore fitted model"
+
+#: Search-bound names used by model files written before version 0.2 (still read).
+_OLD_SETTING_NAMES = {
+    "max_p": "ar_up_to",
+    "max_q": "ma_up_to",
+    "max_pq": "ar_ma_up_to",
+    "max_P": "weekly_ar_up_to",
+    "max_Q": "weekly_ma_up_to",
+}
 MODEL_FILE_VERSION = 1
 
 Progress = Callable[[int, int, str], None]
@@ -83,7 +92,7 @@ class FitSettings:
     ----------
     search : {"quick", "thorough"}
         Stepwise search or every order within the bounds.
-    max_p, max_q, max_pq, max_P, max_Q : int
+    ar_up_to, ma_up_to, ar_ma_up_to, weekly_ar_up_to, weekly_ma_up_to : int
         Bounds of the order search (non-seasonal AR and MA, their sum, weekly AR and MA).
     log : bool
         Model log demand (multiplicative effects) rather than demand.
@@ -96,11 +105,11 @@ class FitSettings:
     """
 
     search: str = "quick"
-    max_p: int = 5
-    max_q: int = 5
-    max_pq: int = 8
-    max_P: int = 2
-    max_Q: int = 2
+    ar_up_to: int = 5
+    ma_up_to: int = 5
+    ar_ma_up_to: int = 8
+    weekly_ar_up_to: int = 2
+    weekly_ma_up_to: int = 2
     log: bool = True
     terms: TermSpec = field(default_factory=TermSpec)
     calendar: CalendarSpec = field(default_factory=CalendarSpec)
@@ -113,7 +122,7 @@ class FitSettings:
                 where="model settings",
                 fix="Use 'quick' or 'thorough'",
             )
-        for name in ("max_p", "max_q", "max_pq", "max_P", "max_Q"):
+        for name in ("ar_up_to", "ma_up_to", "ar_ma_up_to", "weekly_ar_up_to", "weekly_ma_up_to"):
             value = getattr(self, name)
             if not isinstance(value, int | np.integer) or not 0 <= value <= 10:
                 raise InputError(
@@ -124,7 +133,13 @@ class FitSettings:
 
     @property
     def bounds(self) -> SearchBounds:
-        return SearchBounds(self.max_p, self.max_q, self.max_pq, self.max_P, self.max_Q)
+        return SearchBounds(
+            self.ar_up_to,
+            self.ma_up_to,
+            self.ar_ma_up_to,
+            self.weekly_ar_up_to,
+            self.weekly_ma_up_to,
+        )
 
     def to_dict(self) -> dict:
         d = {k: v for k, v in asdict(self).items() if k not in ("terms", "calendar")}
@@ -134,7 +149,7 @@ class FitSettings:
 
     @classmethod
     def from_dict(cls, data: dict) -> FitSettings:
-        data = dict(data)
+        data = {_OLD_SETTING_NAMES.get(k, k): v for k, v in dict(data).items()}
         terms = TermSpec.from_dict(data.pop("terms", {}))
         calendar = CalendarSpec.from_dict(data.pop("calendar", {}))
         return cls(terms=terms, calendar=calendar, **data)
@@ -179,39 +194,16 @@ class Forecast:
     """
 
     frame: pd.DataFrame
-    levels: tuple[int, ...]
+    levels: tuple[float, ...]
     scenario_name: str
     demand_unit: str
     temperature_range_c: tuple[float, float]
     note: str
 
-    def warnings(self) -> list[str]:
-        """Plain messages for every day outside the fitted temperature range or thinly observed."""
-        lo, hi = self.temperature_range_c
-        out: list[str] = []
-        f = self.frame
-        for row in f[f["out_of_range"]].itertuples():
-            side = "above" if row.temperature_c > hi else "below"
-            edge = hi if side == "above" else lo
-            out.append(
-                f"{row.date:%Y-%m-%d}: {row.temperature_c:.1f} °C is {row.out_of_range_by_c:.1f} °C "
-                f"{side} the fitted range ({side == 'above' and 'highest' or 'lowest'} fitted "
-                f"{edge:.1f} °C); the temperature response is extrapolated"
-            )
-        sparse = f[f["sparse_temperature"]]
-        if len(sparse):
-            days = ", ".join(f"{d:%Y-%m-%d}" for d in sparse["date"])
-            out.append(
-                f"Thinly observed temperatures (fewer than {SPARSE_MIN_DAYS} history days within "
-                f"±{SPARSE_HALF_WIDTH_C} °C) on: {days}"
-            )
-        return out
-
-
-INTERVAL_NOTE = (
-    "Prediction intervals treat the scenario temperatures as known: they show the model's "
-    "uncertainty, not the weather's. Use weather ensembles for the spread the weather brings."
-)
+    def warnings(self, temp_unit: units.Unit = "C") -> list[str]:
+        """Plain messages for every day outside the fitted temperature range or thinly observed,
+        with temperatures in ``temp_unit``."""
+        return texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
 
 
 # --------------------------------------------------------------------------------------------
@@ -322,7 +314,7 @@ def fit(
     n_exog = X.shape[1]
 
     bounds = settings.bounds
-    burn = bounds.max_p + WEEKLY_PERIOD * bounds.max_P + WEEKLY_PERIOD
+    burn = bounds.ar_up_to + WEEKLY_PERIOD * bounds.weekly_ar_up_to + WEEKLY_PERIOD
 
     def screen(o: Orders):
         return css_screen(w, o, n_exog=n_exog, burn=burn)
@@ -742,7 +734,7 @@ class FittedModel:
     # ---- forecasts ----------------------------------------------------------------------------
     def forecast(self, scenario, levels: Sequence[float] = (80, 95)) -> Forecast:
         """Forecast a scenario: mean, median, prediction intervals and range flags per day."""
-        levels = _check_levels(levels)
+        levels = interval_levels.parse_levels(levels, where="interval levels")
         dates, temps, types = self._scenario_inputs(scenario)
         lin = self.regressors(dates, temps, types) @ self.beta
         noise_mean, noise_var = self._noise_moments(len(dates))
@@ -756,10 +748,9 @@ class FittedModel:
             out["mean"] = mu
             out["median"] = mu
         for L in levels:
-            z = stats.norm.ppf(0.5 + L / 200.0)
-            lo, hi = mu - z * sd, mu + z * sd
-            out[f"lower_{_level_name(L)}"] = self.to_demand(lo)
-            out[f"upper_{_level_name(L)}"] = self.to_demand(hi)
+            z = interval_levels.z_value(L)
+            out[interval_levels.lower_column(L)] = self.to_demand(mu - z * sd)
+            out[interval_levels.upper_column(L)] = self.to_demand(mu + z * sd)
         tmin, tmax = self.temperature_range_c
         by = np.where(temps > tmax, temps - tmax, np.where(temps < tmin, tmin - temps, 0.0))
         out["out_of_range"] = by > 0
@@ -776,7 +767,7 @@ class FittedModel:
             scenario_name=str(scenario.name),
             demand_unit=self.demand_unit,
             temperature_range_c=(tmin, tmax),
-            note=INTERVAL_NOTE,
+            note=texts.INTERVAL_CAUTION,
         )
 
     def fitted(self) -> pd.Series:
@@ -822,7 +813,7 @@ class FittedModel:
         ``temp_unit`` ("C" or "F") only changes how temperatures and per-degree effects are
         worded in ``meaning``; estimates and standard errors stay on the model's own scale.
         """
-        unit = _temp_unit(temp_unit)
+        unit = units.parse_unit(temp_unit)
         se = self.std_errors()
         rows = []
         names = list(self.columns) + list(self.param_names[len(self.columns) :])
@@ -843,10 +834,10 @@ class FittedModel:
         unit = self.demand_unit
         base = _type_label(self.base_type)
         deg = f"°{temp_unit}"
-        per = 1.8 if temp_unit == "F" else 1.0  # °C per °F step is 1/1.8
+        per = units.delta_to_unit(1.0, temp_unit)  # degrees of temp_unit in one °C step
 
         def temp(value_c: float) -> str:
-            return f"{_in_unit(value_c, temp_unit):g} {deg}"
+            return f"{units.to_unit(value_c, temp_unit):g} {deg}"
 
         def effect(what: str, coef: float = b) -> str:
             if self.settings.log:
@@ -897,9 +888,11 @@ class FittedModel:
             part = "cosine" if "cos" in name else "sine"
             return f"annual cycle beyond temperature, harmonic {k} ({part} part)"
         if name.startswith("ar.S."):
-            return "how much of a deviation carries over from the same weekday a week earlier"
+            return (
+                f"how much of a deviation carries over from the same weekday {_weeks(name)} earlier"
+            )
         if name.startswith("ma.S."):
-            return "how much of a shock echoes on the same weekday a week later"
+            return f"how much of a shock echoes on the same weekday {_weeks(name)} later"
         if name.startswith("ar."):
             return f"how much of a deviation carries over from {name.split('L')[-1]} day(s) earlier"
         if name.startswith("ma."):
@@ -928,13 +921,13 @@ class FittedModel:
 
     def describe_lowest_demand(self, temp_unit: str = "C") -> str:
         """The temperature of lowest demand in words, in °C or °F."""
-        unit = _temp_unit(temp_unit)
+        unit = units.parse_unit(temp_unit)
         spec = self.settings.terms
         t = self.lowest_demand_temperature_c()
         lo, hi = self.temperature_range_c
 
         def temp(value_c: float) -> str:
-            return f"{_in_unit(value_c, unit):.1f} °{unit}"
+            return f"{units.to_unit(value_c, unit):.1f} °{unit}"
 
         if spec.response == "degree_days":
             return (
@@ -1104,41 +1097,14 @@ class FittedModel:
         return path
 
 
-def _check_levels(levels: Sequence[float]) -> list[float]:
-    out = []
-    for L in levels:
-        try:
-            v = float(L)
-        except (TypeError, ValueError):
-            raise InputError(
-                f"Interval level '{L}' is not a number",
-                where="levels",
-                fix="Give levels in percent, e.g. 80,95",
-            ) from None
-        if not 0 < v < 100:
-            raise InputError(
-                f"Interval level {L} is outside 0-100",
-                where="levels",
-                fix="Give levels in percent between 0 and 100, e.g. 80,95",
-            )
-        out.append(int(v) if v.is_integer() else v)
-    return out
+_WEEK_WORDS = {1: "a week", 2: "two weeks", 3: "three weeks", 4: "four weeks"}
 
 
-def _temp_unit(unit: str) -> str:
-    u = str(unit).strip().upper().lstrip("°")
-    if u not in ("C", "F"):
-        raise InputError(f"Unknown temperature unit '{unit}'", where="temp_unit", fix="Use C or F")
-    return u
-
-
-def _in_unit(value_c: float, unit: str) -> float:
-    """°C to the display unit (°F only at the edges)."""
-    return round(value_c * 9.0 / 5.0 + 32.0, 1) if unit == "F" else value_c
-
-
-def _level_name(L: float) -> str:
-    return str(int(L)) if float(L).is_integer() else str(L).replace(".", "_")
+def _weeks(name: str) -> str:
+    """``ar.S.L14`` -> ``two weeks``: the weekly lag of a seasonal term, in words."""
+    lag = int(name.split("L")[-1])
+    n = max(lag // WEEKLY_PERIOD, 1)
+    return _WEEK_WORDS.get(n, f"{n} weeks")
 
 
 def _type_label(t: str) -> str:
@@ -1149,10 +1115,10 @@ def _term_label(name: str) -> str:
     fixed = {
         "const": "level",
         "trend_years": "growth (per year)",
-        "temp": "temperature (per 10 °C)",
-        "temp_sq": "temperature squared (per 10 °C)²",
-        "hdd": "heating degrees (per °C)",
-        "cdd": "cooling degrees (per °C)",
+        "temp": "temperature, linear term",
+        "temp_sq": "temperature, squared term",
+        "hdd": "heating degrees",
+        "cdd": "cooling degrees",
         "sigma2": "shock variance",
     }
     if name in fixed:
@@ -1224,27 +1190,21 @@ def load_model(source: str | Path | bytes) -> FittedModel:
     from .history import HistorySettings, history_from_frame
 
     where = "model file"
-    try:
-        if isinstance(source, bytes):
-            text = source.decode("utf-8")
-        elif isinstance(source, Path) or (
-            isinstance(source, str) and not source.lstrip().startswith("{")
-        ):
+    if isinstance(source, str) and source.lstrip("\ufeff").lstrip().startswith("{"):
+        raw: bytes | str = source
+    else:
+        if isinstance(source, str | Path):
             where = str(source)
-            text = Path(source).read_text(encoding="utf-8")
-        else:
-            text = source
-        data = json.loads(text)
-    except FileNotFoundError:
+        try:
+            raw, _ = files.read_bytes(source, what="model file")
+        except InputError as exc:
+            raise ModelError(exc.problem, where=exc.where or where, fix=exc.fix) from None
+    try:
+        data = plainjson.loads(raw, what="model file")
+    except InputError as exc:
         raise ModelError(
-            "The model file does not exist",
-            where=where,
-            fix="Check the path, or fit a model with 'loadcore fit'",
-        ) from None
-    except (OSError, UnicodeDecodeError, json.JSONDecodeError, ValueError) as exc:
-        raise ModelError(
-            f"The model file is not readable JSON ({exc.__class__.__name__})",
-            where=where,
+            exc.problem,
+            where=f"{where}, {exc.where}" if exc.where else where,
             fix="Use a file written by 'loadcore fit' or the app",
         ) from None
     if not isinstance(data, dict) or data.get("kind") != MODEL_FILE_KIND:
@@ -1340,7 +1300,11 @@ def load_model(source: str | Path | bytes) -> FittedModel:
             where=where,
             fix="Refit the model or use the original file",
         ) from None
-    if len(model.params) != len(model.param_names) or len(model.beta) != len(model.columns):
+    if (
+        model.params.ndim != 1
+        or len(model.params) != len(model.param_names)
+        or len(model.beta) != len(model.columns)
+    ):
         raise ModelError(
             "The model file's parameters do not match its design",
             where=where,

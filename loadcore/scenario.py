@@ -8,7 +8,7 @@ normal, heat wave, cold snap, a copy of a past period, a shifted path) as ``pd.S
 into a :class:`Scenario`, and :func:`read_scenario_csv` reads one from a file.
 
 Temperatures in °F appear only at the edges (:func:`read_scenario_csv` with ``temp_unit="F"`` and the
-helpers :func:`c_to_f` / :func:`f_to_c`).
+helpers of :mod:`loadcore.units`).
 """
 
 from __future__ import annotations
@@ -25,6 +25,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from loadcore import files, units
 from loadcore.calendar import normalise_type_name
 from loadcore.errors import InputError, ScenarioError
 
@@ -45,58 +46,6 @@ NORMAL_WINDOW_HALF_DAYS = 7
 # Identifies a scenario definition file written by :meth:`Scenario.to_dict`.
 DEFINITION_KIND = "loadcore scenario"
 DEFINITION_VERSION = 1
-
-TEMP_UNITS = ("C", "F")
-
-
-# ---------------------------------------------------------------------------------------------------
-# Units
-
-
-def c_to_f(temperature_c: Any) -> Any:
-    """Convert °C to °F.
-
-    Parameters
-    ----------
-    temperature_c : float, array-like or pd.Series
-        Temperature in °C.
-
-    Returns
-    -------
-    Same kind as the input, in °F.
-    """
-    if isinstance(temperature_c, list | tuple):
-        temperature_c = np.asarray(temperature_c, dtype=float)
-    return temperature_c * 9.0 / 5.0 + 32.0
-
-
-def f_to_c(temperature_f: Any) -> Any:
-    """Convert °F to °C.
-
-    Parameters
-    ----------
-    temperature_f : float, array-like or pd.Series
-        Temperature in °F.
-
-    Returns
-    -------
-    Same kind as the input, in °C.
-    """
-    if isinstance(temperature_f, list | tuple):
-        temperature_f = np.asarray(temperature_f, dtype=float)
-    return (temperature_f - 32.0) * 5.0 / 9.0
-
-
-def _check_unit(temp_unit: str) -> str:
-    unit = str(temp_unit).strip().upper().lstrip("°")
-    if unit not in TEMP_UNITS:
-        raise InputError(
-            f"Unknown temperature unit {temp_unit!r}",
-            where="temperature unit",
-            fix='Use "C" for degrees Celsius or "F" for degrees Fahrenheit',
-        )
-    return unit
-
 
 # ---------------------------------------------------------------------------------------------------
 # The Scenario type
@@ -934,8 +883,9 @@ def read_scenario_csv(
     ScenarioError
         When a column is missing or a row fails the checks (the row number is named).
     """
-    unit = _check_unit(temp_unit)
-    text, label = _read_text(source)
+    unit = units.parse_unit(temp_unit)
+    read = files.read_text(source, what="scenario file")
+    text, label = read.text, Path(read.label).name if read.label else ""
     where_file = f"file {label}" if label else "scenario file"
     try:
         frame = pd.read_csv(
@@ -981,62 +931,11 @@ def read_scenario_csv(
                 where=f"{where_file}, row {row}, date {_iso(dates[-1])}",
                 fix="Give a daily maximum temperature for every day",
             )
-        temps.append(f_to_c(value) if unit == "F" else value)
+        temps.append(units.from_unit(value, unit))
     types = list(frame[ycol]) if ycol is not None else None
     path = pd.Series(temps, index=pd.DatetimeIndex(dates), dtype=float)
     scenario_name = name or (Path(label).stem if label else "") or "scenario"
     return make_scenario(scenario_name, path, types, model_end=model_end, max_days=max_days)
-
-
-def _read_text(source: Any) -> tuple[str, str]:
-    """Return (text, label) for a path, file-like, bytes or CSV text."""
-    if isinstance(source, bytes | bytearray):
-        return _decode(bytes(source), ""), ""
-    if isinstance(source, str) and ("\n" in source or "\r" in source):
-        return source, ""
-    if isinstance(source, str | Path):
-        p = Path(source)
-        try:
-            data = p.read_bytes()
-        except FileNotFoundError:
-            raise InputError(
-                "The scenario file does not exist", where=f"file {p}", fix="Check the path"
-            ) from None
-        except IsADirectoryError:
-            raise InputError(
-                "This is a folder, not a scenario file", where=f"file {p}", fix="Give a CSV file"
-            ) from None
-        except OSError as exc:
-            raise InputError(
-                f"The scenario file cannot be read: {exc.strerror or exc}",
-                where=f"file {p}",
-                fix="Check the path and its permissions",
-            ) from None
-        return _decode(data, str(p)), p.name
-    if hasattr(source, "read"):
-        data = source.read()
-        label = Path(str(getattr(source, "name", ""))).name
-        if isinstance(data, bytes | bytearray):
-            return _decode(bytes(data), label), label
-        return str(data), label
-    raise InputError(
-        f"Cannot read a scenario from a {type(source).__name__}",
-        where="scenario file",
-        fix="Give a path, an open file or the file's bytes",
-    )
-
-
-def _decode(data: bytes, label: str) -> str:
-    for encoding in ("utf-8-sig", "cp1252"):
-        try:
-            return data.decode(encoding)
-        except UnicodeDecodeError:
-            continue
-    raise InputError(
-        "The scenario file is not text",
-        where=f"file {label}" if label else "scenario file",
-        fix="Save it as CSV (UTF-8)",
-    )
 
 
 def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
@@ -1053,8 +952,8 @@ def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
     str
         Columns ``date``, ``temperature``, ``day_type`` (blank = from the calendar).
     """
-    unit = _check_unit(temp_unit)
-    temps = scenario.temperature_c if unit == "C" else c_to_f(scenario.temperature_c)
+    unit = units.parse_unit(temp_unit)
+    temps = units.to_unit(np.asarray(scenario.temperature_c, dtype=float), unit)
     frame = pd.DataFrame(
         {
             "date": [_iso(d) for d in scenario.dates],

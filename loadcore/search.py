@@ -71,6 +71,29 @@ class Orders:
     def n_arma(self) -> int:
         return self.p + self.q + self.P + self.Q
 
+    def to_dict(self) -> dict[str, int]:
+        """The orders in the product's own words (model files, ``fit --json``)."""
+        return {
+            "ar": self.p,
+            "differencing": self.d,
+            "ma": self.q,
+            "weekly_ar": self.P,
+            "weekly_differencing": self.D,
+            "weekly_ma": self.Q,
+        }
+
+    @classmethod
+    def from_dict(cls, data: dict[str, int]) -> Orders:
+        """Inverse of :meth:`to_dict`."""
+        return cls(
+            int(data["ar"]),
+            int(data["differencing"]),
+            int(data["ma"]),
+            int(data["weekly_ar"]),
+            int(data["weekly_differencing"]),
+            int(data["weekly_ma"]),
+        )
+
     def describe(self) -> str:
         """Our own plain layout, e.g. ``AR 2 · MA 1 | weekly AR 1 · MA 0 | differencing 0, weekly 0``."""
         word = "weekly" if self.period == WEEKLY_PERIOD else f"every {self.period} days"
@@ -84,28 +107,28 @@ class Orders:
 class SearchBounds:
     """Bounds of the order search (defaults as in the product specification)."""
 
-    max_p: int = 5
-    max_q: int = 5
-    max_pq: int = 8
-    max_P: int = 2
-    max_Q: int = 2
+    ar_up_to: int = 5
+    ma_up_to: int = 5
+    ar_ma_up_to: int = 8
+    weekly_ar_up_to: int = 2
+    weekly_ma_up_to: int = 2
 
     def allows(self, p: int, q: int, P: int, Q: int) -> bool:
         return (
-            0 <= p <= self.max_p
-            and 0 <= q <= self.max_q
-            and p + q <= self.max_pq
-            and 0 <= P <= self.max_P
-            and 0 <= Q <= self.max_Q
+            0 <= p <= self.ar_up_to
+            and 0 <= q <= self.ma_up_to
+            and p + q <= self.ar_ma_up_to
+            and 0 <= P <= self.weekly_ar_up_to
+            and 0 <= Q <= self.weekly_ma_up_to
         )
 
     def all_orders(self, d: int, D: int) -> list[Orders]:
         return [
             Orders(p, d, q, P, D, Q)
-            for p in range(self.max_p + 1)
-            for q in range(self.max_q + 1)
-            for P in range(self.max_P + 1)
-            for Q in range(self.max_Q + 1)
+            for p in range(self.ar_up_to + 1)
+            for q in range(self.ma_up_to + 1)
+            for P in range(self.weekly_ar_up_to + 1)
+            for Q in range(self.weekly_ma_up_to + 1)
             if self.allows(p, q, P, Q)
         ]
 

@@ -17,8 +17,6 @@ operator's procedures, local reliability standards and licensed engineering judg
 
 from __future__ import annotations
 
-import argparse
-import json
 import logging
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -27,14 +25,13 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from loadcore import texts
 from loadcore.errors import InputError, LoadcoreError, ScenarioError
 from loadcore.scores import sample_quantiles
 
 __all__ = [
-    "CAUTION",
     "EnsembleResult",
     "PeakDistribution",
-    "add_cli",
     "ensemble_forecast",
     "ensemble_table",
     "pool_trace_paths",
@@ -44,11 +41,6 @@ __all__ = [
 ]
 
 log = logging.getLogger(__name__)
-
-CAUTION = (
-    "Planning aid only, not an operating or reliability-compliance tool; defer to the system "
-    "operator's procedures, local reliability standards and licensed engineering judgement."
-)
 
 # Shifts of up to +-3 days around the calendar date: the usual choice for shifted-date
 # temperature scenarios (Xie and Hong, 2018, from memory).
@@ -630,8 +622,7 @@ def ensemble_forecast(
         f"{f', warming {warming_c:+.1f} °C' if warming_c else ''}"
         f"{f', blended {blend_weight:.0%} toward a planner path' if blend_path is not None and blend_weight else ''}"
         f") x {n_each} error paths each, the traces widened by sqrt(1 + 1/years) for the few "
-        "years seen. The weather spread still comes only from the years in the history: a "
-        f"hotter or colder spell than any of them is not in it. {CAUTION}"
+        f"years seen. {texts.ENSEMBLE_CAUTION} {texts.PLANNING_CAUTION}"
     )
     return EnsembleResult(
         daily=daily,
@@ -649,133 +640,9 @@ def ensemble_forecast(
     )
 
 
-# ---------------------------------------------------------------------------------------------------
-# Command line
-
-
-def _float_arg(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError as exc:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from exc
-    return value
-
-
-def _write_csv(frame: pd.DataFrame, path: str) -> None:
-    try:
-        from loadcore.export import to_csv_bytes
-    except ImportError:  # pragma: no cover - export ships with loadcore
-        data = frame.to_csv(index=False).encode("utf-8")
-    else:
-        data = to_csv_bytes(frame)
-    try:
-        with open(path, "wb") as handle:
-            handle.write(data)
-    except OSError as exc:
-        raise InputError(
-            f"cannot write the output file: {exc.strerror or exc}",
-            where=path,
-            fix="Choose a folder that exists and that you can write to",
-        ) from exc
-
-
 def ensemble_table(result: EnsembleResult) -> pd.DataFrame:
     """The CSV table of an ensemble: ``date``, the quantile columns, ``mean``, ``prob_above``."""
     columns = ["date", *[quantile_column(q) for q in result.quantiles], "mean"]
     if result.threshold_mw is not None:
         columns.append("prob_above")
     return result.daily[columns].copy()
-
-
-def _cli_progress():
-    """The CLI's progress bar (stderr); imported late because the CLI imports this module."""
-    from loadcore.cli import ProgressBar
-
-    return ProgressBar("traces")
-
-
-def _run_ensemble(args: argparse.Namespace) -> int:
-    from loadcore.model import load_model
-
-    model = load_model(args.model)
-    result = ensemble_forecast(
-        model,
-        days=args.days,
-        shift_days=args.shift_days,
-        warming_c=args.warming,
-        paths_per_trace=args.paths,
-        seed=args.seed,
-        threshold_mw=args.threshold,
-        progress=None if args.json else _cli_progress(),
-    )
-    _write_csv(ensemble_table(result), args.out)
-    if args.json:
-        print(json.dumps(result.summary(), indent=2))
-        return 0
-    peak = result.peak_distribution.quantiles
-    lines = [
-        f"Weather ensemble {result.summary()['start']} to {result.summary()['end']}: "
-        f"{result.n_traces} traces, {result.n_paths} paths.",
-        f"Window peak (MW): p10 {peak['p10']:.0f}, p50 {peak['p50']:.0f}, p90 {peak['p90']:.0f}.",
-        f"Share of daily variance from weather: {result.weather_share:.0%}.",
-    ]
-    if result.threshold_mw is not None:
-        lines.append(
-            f"Above {result.threshold_mw:.0f} MW: chance of at least one day "
-            f"{result.prob_any_above:.1%}, expected days {result.expected_days_above:.2f}."
-        )
-    if result.out_of_range_share > 0:
-        lines.append(
-            f"{result.out_of_range_share:.1%} of trace temperatures lie outside the range the "
-            "model was fitted on; treat those days with care."
-        )
-    lines.append(f"Table written to {args.out}.")
-    lines.append(CAUTION)
-    print("\n".join(lines))
-    return 0
-
-
-def add_cli(subparsers) -> argparse.ArgumentParser:
-    """Add the ``ensemble`` command to an ``argparse`` sub-parser set.
-
-    ``ensemble MODEL.json --out OUT.csv [--days N] [--shift-days K] [--warming DEGREES]
-    [--threshold X] [--paths M] [--seed S] [--json]``. The command's function is stored as the
-    parser default ``handler`` and returns an exit code.
-    """
-    parser = subparsers.add_parser(
-        "ensemble",
-        help="demand quantiles for the coming days from past years' weather",
-        description=(
-            "Forecast the days after a saved model's history with temperature traces taken from "
-            "the same weeks of past years (shifted by a few days), plus the model's error paths. "
-            + CAUTION
-        ),
-    )
-    parser.add_argument("model", metavar="MODEL.json", help="a model saved by loadcore")
-    parser.add_argument("--days", type=int, default=30, help="window length in days (default 30)")
-    parser.add_argument(
-        "--shift-days",
-        type=int,
-        default=DEFAULT_SHIFT_DAYS,
-        help=f"largest day shift of the past-year traces (default {DEFAULT_SHIFT_DAYS})",
-    )
-    parser.add_argument(
-        "--warming",
-        type=_float_arg,
-        default=0.0,
-        metavar="DEGREES",
-        help="°C added to every trace temperature (default 0)",
-    )
-    parser.add_argument(
-        "--threshold", type=_float_arg, default=None, metavar="MW", help="demand level in MW"
-    )
-    parser.add_argument(
-        "--paths", type=int, default=200, metavar="M", help="error paths per trace (default 200)"
-    )
-    parser.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    parser.add_argument("--out", required=True, metavar="OUT.csv", help="where to write the table")
-    parser.add_argument(
-        "--json", action="store_true", help="print the window figures as JSON instead of text"
-    )
-    parser.set_defaults(handler=_run_ensemble)
-    return parser

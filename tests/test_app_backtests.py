@@ -10,7 +10,9 @@ from test_app_support import assert_no_exception, demo_history, new_app, texts
 from loadcore.history import history_from_frame
 from loadcore.model import FitSettings, fit
 
-SMALL_SEARCH = FitSettings(search="quick", max_p=1, max_q=1, max_pq=2, max_P=1, max_Q=0)
+SMALL_SEARCH = FitSettings(
+    search="quick", ar_up_to=1, ma_up_to=1, ar_ma_up_to=2, weekly_ar_up_to=1, weekly_ma_up_to=0
+)
 
 
 @functools.lru_cache(maxsize=1)

@@ -17,7 +17,7 @@ from test_app_support import (
     texts,
 )
 
-from loadcore.export import comparison_summary, forecast_frame, to_csv_bytes
+from loadcore.export import comparison_summary, forecast_table, to_csv_bytes
 from loadcore.scenario import Scenario, make_scenario, seasonal_normal_path
 
 
@@ -88,9 +88,10 @@ def test_csv_download_is_loadcore_export_of_the_same_scenarios(unit):
         at = _compare(unit)
         data = download_bytes(at, "cmp_csv")
     assert_no_exception(at)
-    assert data == to_csv_bytes(forecast_frame(forecasts, temp_unit=unit))
+    assert data == to_csv_bytes(forecast_table(forecasts, temp_unit=unit))
     header = data.decode().splitlines()[0].split(",")
-    assert header[:6] == ["scenario", "date", "temperature", "day_type", "mean", "median"]
+    temp = "temperature_f" if unit == "F" else "temperature_c"
+    assert header[:6] == ["scenario", "date", temp, "day_type", "mean", "median"]
     assert {"lower_80", "upper_80", "lower_95", "upper_95", "out_of_range"} <= set(header)
 
 

@@ -21,6 +21,9 @@ import pytest
 
 from loadcore import cli
 from loadcore.cli import ProgressBar, main
+from loadcore.cli import app as app_command
+from loadcore.cli import check as check_command
+from loadcore.cli.common import levels_arg
 from loadcore.scenario import (
     constant_path,
     heat_wave,
@@ -133,7 +136,7 @@ def test_missing_output_folder_is_caught_before_fitting(tmp_path, capsys):
 
 def test_usage_mistakes_exit_2(capsys):
     assert main(["forecast", "m.json", "s.csv", "--out", "f.csv", "--levels", "80,120"]) == 2
-    assert "between 0 and 100" in capsys.readouterr().err
+    assert "outside 1 to 99.9 percent" in capsys.readouterr().err
     assert main(["fit", "history.csv"]) == 2  # --out is required
     assert main(["no-such-command"]) == 2
     assert main([]) == 2
@@ -146,7 +149,7 @@ def test_unexpected_failure_says_please_report(monkeypatch, capsys):
     def broken(args):
         raise RuntimeError("boom\nsecond line")
 
-    monkeypatch.setattr(cli, "_run_check", broken)
+    monkeypatch.setattr(check_command, "run", broken)
     assert main(["check", str(DEMO)]) == 1
     line = _one_error_line(capsys.readouterr().err)
     assert "please report" in line and "RuntimeError" in line and "boom second line" in line
@@ -188,42 +191,36 @@ def test_progress_bar_draws_on_one_line():
 
 
 def test_levels_parsing():
-    assert cli._levels_arg("95,80") == (80, 95)
-    assert cli._levels_arg("50, 99.5%") == (50, 99.5)
+    assert levels_arg("95,80") == (80, 95)
+    assert levels_arg("50, 99.5%") == (50, 99.5)
     for bad in ("", "0", "100", "abc", "80,-5"):
         with pytest.raises(Exception, match="level|number|between"):
-            cli._levels_arg(bad)
+            levels_arg(bad)
 
 
-def test_plugins_are_optional(tmp_path, monkeypatch, capsys):
-    (tmp_path / "lc_plugin_ok.py").write_text(
-        "def add_cli(sub):\n"
-        "    p = sub.add_parser('hello')\n"
-        "    p.set_defaults(func=lambda args: 3)\n"
-    )
-    (tmp_path / "lc_plugin_broken.py").write_text("raise ValueError('cannot load')\n")
-    (tmp_path / "lc_plugin_plain.py").write_text("X = 1\n")
-    monkeypatch.syspath_prepend(str(tmp_path))
-    modules = ("lc_plugin_missing", "lc_plugin_broken", "lc_plugin_plain", "lc_plugin_ok")
-    monkeypatch.setattr(cli, "PLUGIN_MODULES", modules)
-    assert main(["hello"]) == 3
-    err = capsys.readouterr().err
-    assert "lc_plugin_broken" in err and "cannot load" in err
-    assert "lc_plugin_missing" not in err and "lc_plugin_plain" not in err
-
-
-def test_team_plugins_add_their_commands():
+def test_every_command_is_listed_and_has_one_handler_convention():
     parser = cli.build_parser()
     sub = next(a for a in parser._actions if a.dest == "command")
-    for module, command in (
-        ("loadcore.evaluate", "backtest"),
-        ("loadcore.weather", "ensemble"),
-        ("loadcore.library", "scenarios"),
-    ):
-        if importlib.util.find_spec(module) is not None:
-            assert command in sub.choices, command
-    for command in ("check", "fit", "forecast", "app"):
-        assert command in sub.choices
+    assert set(sub.choices) == {
+        "check",
+        "fit",
+        "forecast",
+        "backtest",
+        "ensemble",
+        "scenarios",
+        "app",
+    }
+    for name, command in sub.choices.items():
+        if name == "scenarios":
+            continue
+        assert callable(command.get_default("handler")), name
+
+
+def test_old_search_limit_spellings_still_work_with_a_note(capsys):
+    parser = cli.build_parser()
+    args = parser.parse_args(["fit", "h.csv", "--out", "m.json", "--max-p", "3", "--ma-up-to", "2"])
+    assert args.ar_up_to == 3 and args.ma_up_to == 2
+    assert "--max-p is now --ar-up-to" in capsys.readouterr().err
 
 
 def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
@@ -233,7 +230,7 @@ def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
         seen["command"], seen["env"] = command, env
         return subprocess.CompletedProcess(command, 0)
 
-    monkeypatch.setattr(cli.subprocess, "run", fake_run)
+    monkeypatch.setattr(app_command.subprocess, "run", fake_run)
     history = tmp_path / "h.csv"
     history.write_text(DEMO.read_text())
     assert main(["app", "--port", "8765", "--history", str(history)]) == 0
@@ -267,7 +264,16 @@ def fitted(tmp_path_factory):
     recent.write_text("\n".join([lines[0], *lines[-730:]]) + "\n")
     out = folder / "model.json"
     stdout, stderr = io.StringIO(), io.StringIO()
-    limits = ["--max-p", "2", "--max-q", "1", "--max-seasonal-p", "1", "--max-seasonal-q", "0"]
+    limits = [
+        "--ar-up-to",
+        "2",
+        "--ma-up-to",
+        "1",
+        "--weekly-ar-up-to",
+        "1",
+        "--weekly-ma-up-to",
+        "0",
+    ]
     with contextlib.redirect_stdout(stdout), contextlib.redirect_stderr(stderr):
         code = main(["fit", str(recent), "--out", str(out), "--search", "quick", "--json", *limits])
     assert code == 0, stderr.getvalue()
@@ -277,9 +283,17 @@ def fitted(tmp_path_factory):
 @pytest.mark.slow
 def test_fit_json_keys(fitted):
     summary = json.loads(fitted["stdout"])  # exactly one JSON object on stdout
-    order, seasonal = summary["order"], summary["seasonal_order"]
-    assert len(order) == 3 and all(isinstance(v, int) and v >= 0 for v in order)
-    assert len(seasonal) == 4 and seasonal[3] == 7
+    errors = summary["errors"]
+    assert set(errors) == {
+        "ar",
+        "differencing",
+        "ma",
+        "weekly_ar",
+        "weekly_differencing",
+        "weekly_ma",
+    }
+    assert all(isinstance(v, int) and v >= 0 for v in errors.values())
+    assert errors["ar"] <= 2 and errors["weekly_ma"] == 0
     assert isinstance(summary["aicc"], float) and math.isfinite(summary["aicc"])
     assert isinstance(summary["candidates_evaluated"], int) and summary["candidates_evaluated"] >= 1
     assert isinstance(summary["converged"], bool)
@@ -303,18 +317,42 @@ def test_fit_text_summary_uses_plain_words(fitted, tmp_path, capsys, monkeypatch
 
     monkeypatch.setattr(model_module, "fit", fit_again)
     out = tmp_path / "m.json"
-    code = main(["fit", str(DEMO), "--out", str(out), "--search", "thorough", "--max-p", "3",
+    code = main(["fit", str(DEMO), "--out", str(out), "--search", "thorough", "--ar-up-to", "3",
                  "--no-log", "--holidays", "US-TX", "--override", "2026-12-24..2027-01-01 year_end"])  # fmt: skip
     assert code == 0
     settings = calls[0]
-    assert settings.search == "thorough" and settings.max_p == 3 and settings.log is False
+    assert settings.search == "thorough" and settings.ar_up_to == 3 and settings.log is False
     assert settings.calendar.subdivision == "TX"
     assert settings.calendar.overrides[0].day_type == "year_end"
     assert out.is_file()
     text = capsys.readouterr().out
     assert "AICc" in text and "Coefficients" in text and "planning aid" in text
     assert "differencing" in text  # orders in our own words
-    assert "(" + ",".join(str(v) for v in json.loads(fitted["stdout"])["order"]) + ")" not in text
+    e = json.loads(fitted["stdout"])["errors"]
+    assert f"({e['ar']},{e['differencing']},{e['ma']})" not in text
+
+
+@pytest.mark.slow
+def test_fit_in_fahrenheit_prints_every_temperature_in_fahrenheit(fitted, tmp_path, capsys):
+    """`fit --temp-unit F` reads a °F file and prints ranges, meanings and notes in °F only."""
+    frame = pd.read_csv(fitted["dir"] / "recent_history.csv")
+    frame["temperature"] = frame["temperature"] * 9 / 5 + 32
+    history_f = tmp_path / "history_f.csv"
+    frame.to_csv(history_f, index=False)
+    out = tmp_path / "m.json"
+    code = main(["fit", str(history_f), "--out", str(out), "--temp-unit", "F", "--search", "quick",
+                 "--ar-up-to", "1", "--ma-up-to", "1", "--weekly-ar-up-to", "1",
+                 "--weekly-ma-up-to", "0", "--json"])  # fmt: skip
+    assert code == 0
+    summary = json.loads(capsys.readouterr().out)
+    low_f, high_f = summary["temperature_range_f"]
+    assert low_f == pytest.approx(frame["temperature"].min(), abs=0.05)
+    assert high_f == pytest.approx(frame["temperature"].max(), abs=0.05)
+    assert main(["fit", str(history_f), "--out", str(out), "--temp-unit", "F", "--search", "quick",
+                 "--ar-up-to", "1", "--ma-up-to", "1", "--weekly-ar-up-to", "1",
+                 "--weekly-ma-up-to", "0"]) == 0  # fmt: skip
+    text = capsys.readouterr().out
+    assert "°F" in text and "°C" not in text, text
 
 
 def _scenario_file(folder: Path, model_path: Path, unit: str = "C") -> tuple[Path, float, str]:
@@ -338,8 +376,9 @@ def test_forecast_csv_columns_and_out_of_range_flags(fitted, tmp_path, capsys):
     assert main(["forecast", str(fitted["out"]), str(scen), "--out", str(out)]) == 0
     printed = capsys.readouterr().out
     table = pd.read_csv(out)
-    expected = ["date", "temperature", "day_type", "mean", "median", "lower_80", "upper_80",
-                "lower_95", "upper_95", "out_of_range", "out_of_range_by_c", "sparse_temperature"]  # fmt: skip
+    expected = ["scenario", "date", "temperature_c", "day_type", "mean", "median", "lower_80",
+                "upper_80", "lower_95", "upper_95", "out_of_range", "out_of_range_by_c",
+                "sparse_temperature"]  # fmt: skip
     assert list(table.columns) == expected
     assert len(table) == 20
     hot = np.zeros(20, bool)
@@ -362,13 +401,23 @@ def test_forecast_in_fahrenheit_subprocess(fitted, tmp_path):
     scen, _, _ = _scenario_file(tmp_path, fitted["out"], unit="F")
     out = tmp_path / "forecast_f.csv"
     done = _run("forecast", str(fitted["out"]), str(scen), "--out", str(out), "--temp-unit", "F",
-                "--levels", "50,90")  # fmt: skip
+                "--levels", "50,90,97.5")  # fmt: skip
     assert done.returncode == 0, done.stderr
     table = pd.read_csv(out)
-    assert {"lower_50", "upper_50", "lower_90", "upper_90"} <= set(table.columns)
-    celsius = pd.read_csv(scen)["temperature"]
-    np.testing.assert_allclose(table["temperature"], celsius, atol=1e-3)  # stays in °F
+    assert {"lower_50", "upper_50", "lower_90", "upper_90", "lower_97.5", "upper_97.5"} <= set(
+        table.columns
+    )
+    assert (table["lower_97.5"] <= table["lower_90"]).all()
+    assert (table["upper_90"] <= table["upper_97.5"]).all()
+    given_f = pd.read_csv(scen)["temperature"]
+    np.testing.assert_allclose(table["temperature_f"], given_f, atol=1e-3)  # stays in °F
+    assert "temperature_c" not in table and "out_of_range_by_c" not in table
+    np.testing.assert_allclose(
+        table.loc[table["out_of_range"], "out_of_range_by_f"], 7.2, atol=0.02
+    )
     assert table["out_of_range"].astype(bool).sum() == 14
+    assert "°C" not in done.stdout, done.stdout  # every printed temperature in the chosen unit
+    assert "97.5% from" in done.stdout
 
 
 @pytest.mark.slow

@@ -70,7 +70,7 @@ def test_seasonal_naive_same_weekday_last_observed_week():
 
 # Tight search bounds keep the one order search of each backtest short; the simulated errors are
 # AR 1, which the bounds include.
-SMALL = dict(max_p=1, max_q=0, max_pq=1, max_P=0, max_Q=0)
+SMALL = dict(ar_up_to=1, ma_up_to=0, ar_ma_up_to=1, weekly_ar_up_to=0, weekly_ma_up_to=0)
 
 
 def _settings():
@@ -274,7 +274,9 @@ def test_ex_ante_80_bands_on_held_back_demo_years(demo_history):
     """
     from loadcore.model import FitSettings
 
-    settings = FitSettings(max_p=2, max_q=1, max_pq=3, max_P=1, max_Q=1)
+    settings = FitSettings(
+        ar_up_to=2, ma_up_to=1, ar_ma_up_to=3, weekly_ar_up_to=1, weekly_ma_up_to=1
+    )
     result = backtest(
         demo_history, settings, horizon=14, origins=40, mode="ex_ante", span_days=700, seed=3
     )

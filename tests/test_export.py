@@ -18,7 +18,7 @@ from loadcore.export import (
     check_upload_size,
     comparison_summary,
     describe_orders,
-    forecast_frame,
+    forecast_table,
     meeting_brief_html,
     out_of_range_days,
     safe_cell,
@@ -38,7 +38,7 @@ class FakeForecast:
     note: str = ""
     notes: tuple = field(default=())
 
-    def warnings(self) -> list[str]:
+    def warnings(self, temp_unit: str = "C") -> list[str]:
         return list(self.notes)
 
 
@@ -187,18 +187,18 @@ def test_check_upload_size():
 
 
 # ---------------------------------------------------------------------------------------------
-# forecast_frame / comparison_summary
+# forecast_table / comparison_summary
 
 
-def test_forecast_frame_columns_and_units():
+def test_forecast_table_columns_and_units():
     """°F = °C x 9/5 + 32 (the definition of the Fahrenheit scale; common practice, no source)."""
     a = make_forecast("base", temps_c=np.array([0.0, 100.0, -40.0, 25.0]), days=4, out_idx=(1,))
     b = make_forecast("hot", days=4, seed=1)
-    table = forecast_frame([a, b])
+    table = forecast_table([a, b])
     assert list(table.columns) == [
         "scenario",
         "date",
-        "temperature",
+        "temperature_c",
         "day_type",
         "mean",
         "median",
@@ -208,29 +208,31 @@ def test_forecast_frame_columns_and_units():
         "upper_95",
         "out_of_range",
         "out_of_range_by_c",
+        "sparse_temperature",
     ]
     assert table["scenario"].tolist() == ["base"] * 4 + ["hot"] * 4
     assert table.attrs["temp_unit"] == "C"
-    f_table = forecast_frame([a], temp_unit="F")
-    assert f_table["temperature"].tolist() == pytest.approx([32.0, 212.0, -40.0, 77.0])
+    f_table = forecast_table([a], temp_unit="F")
+    assert f_table["temperature_f"].tolist() == pytest.approx([32.0, 212.0, -40.0, 77.0])
     assert f_table["out_of_range"].tolist() == [False, True, False, False]
-    assert f_table["out_of_range_by_c"].tolist() == [0.0, 1.5, 0.0, 0.0]
+    assert f_table["out_of_range_by_f"].tolist() == pytest.approx([0.0, 2.7, 0.0, 0.0])
+    assert "temperature_c" not in f_table and "out_of_range_by_c" not in f_table
     np.testing.assert_allclose(f_table["mean"], a.frame["mean"])
 
 
-def test_forecast_frame_accepts_date_index_and_rejects_bad_input():
+def test_forecast_table_accepts_date_index_and_rejects_bad_input():
     fc = make_forecast("idx")
     indexed = FakeForecast(frame=fc.frame.set_index("date"), scenario_name="idx")
-    assert len(forecast_frame([indexed])) == len(fc.frame)
+    assert len(forecast_table([indexed])) == len(fc.frame)
     with pytest.raises(InputError, match="share the scenario name"):
-        forecast_frame([fc, fc])
+        forecast_table([fc, fc])
     with pytest.raises(InputError, match="temperature unit"):
-        forecast_frame([fc], temp_unit="K")
+        forecast_table([fc], temp_unit="K")
     with pytest.raises(InputError, match="no forecasts"):
-        forecast_frame([])
+        forecast_table([])
     broken = FakeForecast(frame=fc.frame.drop(columns=["upper_95"]), scenario_name="broken")
     with pytest.raises(InputError, match="upper_95"):
-        forecast_frame([broken])
+        forecast_table([broken])
 
 
 def test_comparison_summary_against_hand_computation():
@@ -279,7 +281,7 @@ def test_out_of_range_days_lists_flagged_rows():
     fc = make_forecast("x", out_idx=(0, 3))
     flagged = out_of_range_days([fc], temp_unit="F")
     assert flagged["date"].tolist() == [fc.frame["date"][0], fc.frame["date"][3]]
-    assert flagged["temperature"].tolist() == pytest.approx(
+    assert flagged["temperature_f"].tolist() == pytest.approx(
         (fc.frame["temperature_c"][[0, 3]] * 9 / 5 + 32).tolist()
     )
 
@@ -371,7 +373,7 @@ def test_meeting_brief_content_and_cautions():
     assert "system operator" in text and "licensed engineering judgement" in text
     day = hot.frame["date"][4].strftime("%Y-%m-%d")
     t_f = hot.frame["temperature_c"][4] * 9 / 5 + 32
-    assert f"<td>{day}</td><td>{t_f:.1f} °F</td><td>1.5 °C (2.7 °F)</td>" in text
+    assert f"<td>{day}</td><td>{t_f:.1f} °F</td><td>2.7 °F</td>" in text
     assert "plus 3 °C on every day" in text
     assert "AR 1 · MA 1 | weekly AR 1" in text
     assert "History 2026-01-01 to 2031-06-30" in text

@@ -441,11 +441,11 @@ def saved_model_doc():
         pd.DataFrame({"demand": demand, "temperature_c": temp}, index=idx)
     )
     small = model.FitSettings(  # the smallest search: this test is about files, not fits
-        max_p=1,
-        max_q=0,
-        max_pq=1,
-        max_P=0,
-        max_Q=0,
+        ar_up_to=1,
+        ma_up_to=0,
+        ar_ma_up_to=1,
+        weekly_ar_up_to=0,
+        weekly_ma_up_to=0,
         workers=1,
         terms=TermSpec(annual_harmonics=0, trend=False),
     )

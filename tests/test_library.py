@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import argparse
 import json
 import os
 import signal
@@ -45,7 +44,7 @@ class FakeTerms:
 @dataclass(frozen=True)
 class FakeSettings:
     search: str = "quick"
-    max_p: int = 5
+    ar_up_to: int = 5
     terms: FakeTerms = field(default_factory=FakeTerms)
     holidays: tuple = ("US",)
 
@@ -494,7 +493,7 @@ def test_is_current_compares_fingerprint_and_settings(library):
     saved = library.save(make_entry())
     assert is_current(saved, FakeModel())
     assert not is_current(saved, FakeModel(fingerprint="0" * 64))
-    assert not is_current(saved, FakeModel(settings=FakeSettings(max_p=3)))
+    assert not is_current(saved, FakeModel(settings=FakeSettings(ar_up_to=3)))
     assert not is_current(saved, FakeModel(settings=FakeSettings(terms=FakeTerms("degree_days"))))
     assert not is_current(saved, object())
 
@@ -561,15 +560,12 @@ def test_entry_from_forecast_with_contract_shaped_objects(library):
 # command line
 
 
-def parser() -> argparse.ArgumentParser:
-    p = argparse.ArgumentParser(prog="test")
-    lib.add_cli(p.add_subparsers(dest="command", required=True))
-    return p
-
-
 def run(argv: list[str]) -> int:
-    args = parser().parse_args(argv)
-    return args.func(args)
+    """The ``loadcore scenarios`` handler, called directly so that errors reach the test."""
+    from loadcore.cli import build_parser
+
+    args = build_parser().parse_args(argv)
+    return args.handler(args)
 
 
 def test_cli_list_json(library, capsys):
@@ -587,6 +583,7 @@ def test_cli_export_csv_and_html(library, tmp_path, capsys):
     library.save(make_entry("=Base", context={"levels": [80, 95], "history_period": []}))
     library.save(make_entry("Hot", seed=3))
     out_csv = tmp_path / "out" / "forecast.csv"
+    out_csv.parent.mkdir()
     assert (
         run(
             [
@@ -604,7 +601,7 @@ def test_cli_export_csv_and_html(library, tmp_path, capsys):
     )
     table = pd.read_csv(out_csv)
     assert table["scenario"].unique().tolist() == ["'=Base", "Hot"]
-    assert list(table.columns)[:3] == ["scenario", "date", "temperature"]
+    assert list(table.columns)[:3] == ["scenario", "date", "temperature_c"]
     assert len(table) == 28
     out_html = tmp_path / "brief.html"
     code = run(
@@ -653,11 +650,11 @@ def test_cli_save_with_a_fitted_model(tmp_path, demo_history, capsys):
 
     short = history_from_frame(cut[["demand", "temperature_c"]])
     small = model_mod.FitSettings(  # the smallest search: this test is about files, not fits
-        max_p=1,
-        max_q=0,
-        max_pq=1,
-        max_P=0,
-        max_Q=0,
+        ar_up_to=1,
+        ma_up_to=0,
+        ar_ma_up_to=1,
+        weekly_ar_up_to=0,
+        weekly_ma_up_to=0,
         workers=1,
         terms=TermSpec(annual_harmonics=0, trend=False),
     )
@@ -704,7 +701,7 @@ def test_cli_save_with_a_stand_in_model(tmp_path, monkeypatch, capsys):
         note: str = ""
         demand_unit: str = "MW"
 
-        def warnings(self):
+        def warnings(self, temp_unit="C"):
             return []
 
     @dataclass(frozen=True)

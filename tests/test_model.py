@@ -293,12 +293,13 @@ def test_meanings_can_be_worded_in_fahrenheit(demo_model):
     c = demo_model.coefficient_table()
     f = demo_model.coefficient_table(temp_unit="F")
     np.testing.assert_array_equal(c["estimate"], f["estimate"])
-    slope_c = c.loc[c["term"] == "temperature (per 10 °C)", "meaning"].iloc[0]
-    slope_f = f.loc[f["term"] == "temperature (per 10 °C)", "meaning"].iloc[0]
+    assert list(c["term"]) == list(f["term"])  # term labels carry no unit
+    slope_c = c.loc[c["term"] == "temperature, linear term", "meaning"].iloc[0]
+    slope_f = f.loc[f["term"] == "temperature, linear term", "meaning"].iloc[0]
     assert "at 18 °C" in slope_c and "at 64.4 °F" in slope_f and "per °F" in slope_f
-    b = float(c.loc[c["term"] == "temperature (per 10 °C)", "estimate"].iloc[0])
+    b = float(c.loc[c["term"] == "temperature, linear term", "estimate"].iloc[0])
     assert f"{100 * b / 10 / 1.8:+.2f} % per °F" in slope_f
     t = demo_model.lowest_demand_temperature_c()
     assert f"{t * 9 / 5 + 32:.1f} °F" in demo_model.describe_lowest_demand(temp_unit="F")
-    with pytest.raises(Exception, match="Unknown temperature unit"):
+    with pytest.raises(Exception, match="not a temperature unit"):
         demo_model.coefficient_table(temp_unit="K")

@@ -16,11 +16,9 @@ from loadcore.errors import InputError, ScenarioError
 from loadcore.scenario import (
     MAX_DAYS,
     Scenario,
-    c_to_f,
     cold_snap,
     constant_path,
     copy_period,
-    f_to_c,
     heat_wave,
     make_scenario,
     read_scenario_csv,
@@ -35,27 +33,6 @@ def _history(temps: np.ndarray, start: str = "2020-01-01") -> SimpleNamespace:
     index = pd.date_range(start, periods=len(temps), freq="D", name="date")
     frame = pd.DataFrame({"demand": 1000.0, "temperature_c": np.asarray(temps, float)}, index=index)
     return SimpleNamespace(frame=frame)
-
-
-# --------------------------------------------------------------------------------------------- units
-
-
-def test_unit_conversion_fixed_points():
-    """Water freezes at 0 °C = 32 °F, boils at 100 °C = 212 °F; the scales meet at -40
-    (common practice, no source)."""
-    assert c_to_f(0.0) == pytest.approx(32.0)
-    assert c_to_f(100.0) == pytest.approx(212.0)
-    assert c_to_f(-40.0) == pytest.approx(-40.0)
-    assert f_to_c(212.0) == pytest.approx(100.0)
-    assert f_to_c(98.6) == pytest.approx(37.0)
-
-
-def test_unit_conversion_round_trip_arrays_and_lists():
-    values = np.linspace(-50, 50, 11)
-    np.testing.assert_allclose(f_to_c(c_to_f(values)), values)
-    np.testing.assert_allclose(c_to_f([0.0, 10.0]), [32.0, 50.0])
-    series = pd.Series([20.0, 30.0])
-    assert isinstance(c_to_f(series), pd.Series)
 
 
 # ------------------------------------------------------------------------------------- path builders

@@ -9,6 +9,7 @@ import streamlit as st
 from app import charts, state
 from loadcore.errors import LoadcoreError
 from loadcore.evaluate import backtest
+from loadcore.levels import coverage_column, level_label
 
 st.title("Backtests")
 fitted = state.need_model()
@@ -70,7 +71,7 @@ st.markdown(
     f"to {summary['last_origin']}, {summary['horizon']} days ahead each. Error model: "
     f"{summary['orders']}."
 )
-levels = [str(int(lv)) if float(lv).is_integer() else str(lv) for lv in result.levels]
+levels = [level_label(lv) for lv in result.levels]
 cols = st.columns(2 + len(levels))
 cols[0].metric("MAPE over all days", f"{summary['mape']:.2f} %")
 cols[1].metric(
@@ -82,7 +83,7 @@ cols[1].metric(
 for i, level in enumerate(levels):
     cols[2 + i].metric(
         f"Days inside the {level} % interval",
-        f"{100 * summary[f'coverage_{level}']:.0f} %",
+        f"{100 * summary[coverage_column(level)]:.0f} %",
         f"aim {level} %",
         delta_color="off",
     )
@@ -97,7 +98,7 @@ left.plotly_chart(
     ),
     key="bt_mape",
 )
-coverage_cols = [f"coverage_{lv}" for lv in levels]
+coverage_cols = [coverage_column(lv) for lv in levels]
 right.plotly_chart(
     theme=None,
     figure_or_data=charts.lines_figure(

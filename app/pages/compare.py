@@ -5,8 +5,9 @@ from __future__ import annotations
 import streamlit as st
 
 from app import charts, state
+from loadcore import units
 from loadcore.errors import LoadcoreError
-from loadcore.export import comparison_summary, forecast_frame, to_csv_bytes
+from loadcore.export import comparison_summary, forecast_table, to_csv_bytes
 
 meeting = bool(st.session_state.get(state.MEETING))
 if not meeting:
@@ -148,14 +149,14 @@ else:
 # Daily table and downloads
 # --------------------------------------------------------------------------------------------
 st.subheader("Day by day")
-daily = forecast_frame(list(forecasts.values()), temp_unit=unit)
+daily = forecast_table(list(forecasts.values()), temp_unit=unit)
 st.dataframe(
     daily,
     hide_index=True,
     width="stretch",
     column_config={
         "date": st.column_config.DateColumn(format="YYYY-MM-DD"),
-        "temperature": st.column_config.NumberColumn(
+        units.temperature_column(unit): st.column_config.NumberColumn(
             f"temperature, {state.unit_symbol()}", format="%.1f"
         ),
     },

@@ -97,11 +97,11 @@ with st.form("fit_form", border=True):
     )
     with st.expander("Search limits"):
         a, b, c, d, e = st.columns(5)
-        max_p = a.number_input("AR up to", 0, 10, current.max_p, key="fit_p")
-        max_q = b.number_input("MA up to", 0, 10, current.max_q, key="fit_q")
-        max_pq = c.number_input("AR + MA up to", 0, 10, current.max_pq, key="fit_pq")
-        max_big_p = d.number_input("weekly AR up to", 0, 10, current.max_P, key="fit_bp")
-        max_big_q = e.number_input("weekly MA up to", 0, 10, current.max_Q, key="fit_bq")
+        ar_up_to = a.number_input("AR up to", 0, 10, current.ar_up_to, key="fit_p")
+        ma_up_to = b.number_input("MA up to", 0, 10, current.ma_up_to, key="fit_q")
+        ar_ma_up_to = c.number_input("AR + MA up to", 0, 10, current.ar_ma_up_to, key="fit_pq")
+        max_big_p = d.number_input("weekly AR up to", 0, 10, current.weekly_ar_up_to, key="fit_bp")
+        max_big_q = e.number_input("weekly MA up to", 0, 10, current.weekly_ma_up_to, key="fit_bq")
     go = st.form_submit_button("Fit the model", type="primary")
 
 if go:
@@ -116,11 +116,11 @@ if go:
         )
         settings = FitSettings(
             search=search,
-            max_p=int(max_p),
-            max_q=int(max_q),
-            max_pq=int(max_pq),
-            max_P=int(max_big_p),
-            max_Q=int(max_big_q),
+            ar_up_to=int(ar_up_to),
+            ma_up_to=int(ma_up_to),
+            ar_ma_up_to=int(ar_ma_up_to),
+            weekly_ar_up_to=int(max_big_p),
+            weekly_ma_up_to=int(max_big_q),
             log=bool(use_log),
             terms=terms,
             calendar=dataclasses.replace(calendar, scheme=scheme),

@@ -1,0 +1,262 @@
+"""The one file policy: how loadcore reads a user's file and how it writes its own.
+
+Reading (histories, scenarios, model files, uploads):
+
+- only regular files are opened (a folder, a FIFO or a device such as ``/dev/zero`` is refused
+  before anything is read), and the size is checked against a cap before reading;
+- bytes are decoded with one list of encodings (UTF-8 with or without a byte-order mark, then
+  Windows-1252, then Latin-1, each fallback reported by the caller);
+- files that are not text are recognised and named (ZIP archives and XLSX workbooks, UTF-16 text,
+  other binary data), with what to do about them.
+
+Writing (models, exports, briefs): :func:`write_atomic` writes to a temporary file in the same
+folder, flushes it to disk and renames it over the target only when complete, so a full disk or
+a crash never leaves a half-written file in place of a good one.
+"""
+
+from __future__ import annotations
+
+import os
+import stat
+import tempfile
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from loadcore.errors import InputError
+
+#: Largest file read by default, MB (1 MB = 1,048,576 bytes). Nine years of hourly data is about
+#: 3 MB; the cap stops a mistaken file (a disk image, a video) before it fills memory (our choice).
+DEFAULT_LIMIT_MB = 50
+BYTES_PER_MB = 1024 * 1024
+
+#: Encodings tried in order. UTF-8 first (with or without a byte-order mark), then the usual
+#: Windows code page of spreadsheet exports, then Latin-1, which decodes any bytes.
+ENCODINGS = ("utf-8-sig", "cp1252", "latin-1")
+
+_ZIP_MAGIC = b"PK\x03\x04"
+_UTF16_BOMS = (b"\xff\xfe", b"\xfe\xff")
+_OLE_MAGIC = b"\xd0\xcf\x11\xe0"
+
+
+@dataclass(frozen=True)
+class TextFile:
+    """A decoded file: ``text``, the ``encoding`` used and a ``label`` for messages."""
+
+    text: str
+    encoding: str
+    label: str
+
+    @property
+    def fallback(self) -> bool:
+        """True when the file was not UTF-8 (the caller may want to say so)."""
+        return self.encoding != ENCODINGS[0]
+
+
+def limit_bytes(limit_mb: float = DEFAULT_LIMIT_MB) -> int:
+    return int(limit_mb * BYTES_PER_MB)
+
+
+def check_size(n_bytes: int, *, limit_mb: float = DEFAULT_LIMIT_MB, what: str = "file") -> None:
+    """Refuse a file larger than the cap, before it is read."""
+    if int(n_bytes) > limit_bytes(limit_mb):
+        raise InputError(
+            f"The {what} is {int(n_bytes) / BYTES_PER_MB:.1f} MB, more than the "
+            f"{limit_mb:g} MB limit",
+            fix="Use daily data (one row per day) or cut the file to the years you need",
+        )
+
+
+def read_bytes(
+    source: Any, *, what: str = "file", limit_mb: float = DEFAULT_LIMIT_MB
+) -> tuple[bytes, str]:
+    """The bytes of a path, an open file or a bytes object, and a label for messages.
+
+    Raises
+    ------
+    InputError
+        When the path does not exist, is not a regular file, cannot be read, or is over the cap.
+    """
+    if isinstance(source, bytes | bytearray | memoryview):
+        data = bytes(source)
+        check_size(len(data), limit_mb=limit_mb, what=what)
+        return data, ""
+    if isinstance(source, str | os.PathLike):
+        path = Path(source)
+        label = str(path)
+        try:
+            info = path.stat()
+        except FileNotFoundError:
+            raise InputError(
+                f"The {what} does not exist", where=label, fix="Check the path and file name"
+            ) from None
+        except OSError as exc:
+            raise InputError(
+                f"The {what} cannot be opened ({exc.strerror or exc})",
+                where=label,
+                fix="Check the path and that you may read it",
+            ) from None
+        if stat.S_ISDIR(info.st_mode):
+            raise InputError(
+                f"The {what} is a folder, not a file", where=label, fix="Give the path of a file"
+            )
+        if not stat.S_ISREG(info.st_mode):
+            raise InputError(
+                f"The {what} is not a regular file (it is a device, a pipe or a socket)",
+                where=label,
+                fix="Save the data to an ordinary file and give its path",
+            )
+        check_size(info.st_size, limit_mb=limit_mb, what=what)
+        try:
+            with path.open("rb") as handle:
+                data = handle.read(limit_bytes(limit_mb) + 1)
+        except OSError as exc:
+            raise InputError(
+                f"The {what} cannot be read ({exc.strerror or exc})",
+                where=label,
+                fix="Check that the file is not open elsewhere and that you may read it",
+            ) from None
+        check_size(len(data), limit_mb=limit_mb, what=what)
+        return data, label
+    if hasattr(source, "read"):
+        label = str(getattr(source, "name", "") or "")
+        size = getattr(source, "size", None)
+        if isinstance(size, int):
+            check_size(size, limit_mb=limit_mb, what=what)
+        data = source.read(limit_bytes(limit_mb) + 1)
+        if isinstance(data, str):
+            data = data.encode("utf-8")
+        check_size(len(data), limit_mb=limit_mb, what=what)
+        return bytes(data), label
+    raise InputError(
+        f"A {what} cannot be read from a {type(source).__name__}",
+        fix="Give a file path, an open file or the file's bytes",
+    )
+
+
+def not_text_reason(data: bytes) -> str | None:
+    """Why these bytes are not a text table (a spreadsheet, UTF-16, binary), or None."""
+    head = data[:8]
+    if head.startswith(_ZIP_MAGIC):
+        if b"xl/" in data[:4096] or b"[Content_Types].xml" in data[:4096]:
+            return "an Excel workbook (XLSX), not a CSV file"
+        return "a ZIP archive, not a CSV file"
+    if head.startswith(_OLE_MAGIC):
+        return "an old-style Excel workbook (XLS), not a CSV file"
+    if head.startswith(_UTF16_BOMS) or (
+        len(data) >= 4 and b"\x00\x00" in (data[1:4:2], data[0:4:2]) and data[:4].count(0) == 2
+    ):
+        return "text in UTF-16, which loadcore does not read"
+    if b"\x00" in data[:4096]:
+        return "binary data, not a text file"
+    return None
+
+
+def decode(data: bytes, *, what: str = "file", label: str = "") -> TextFile:
+    """Decode a user's file with the one encoding list, refusing spreadsheets and binary data."""
+    reason = not_text_reason(data)
+    if reason:
+        raise InputError(
+            f"The {what} is {reason}",
+            where=label or None,
+            fix="Save it as CSV (comma-separated values, UTF-8) and choose that file",
+        )
+    for encoding in ENCODINGS:
+        try:
+            return TextFile(data.decode(encoding), encoding, label)
+        except UnicodeDecodeError:
+            continue
+    raise AssertionError("latin-1 decodes any bytes")  # pragma: no cover
+
+
+def read_text(source: Any, *, what: str = "file", limit_mb: float = DEFAULT_LIMIT_MB) -> TextFile:
+    """:func:`read_bytes` then :func:`decode`; text given as ``str`` is passed through."""
+    if isinstance(source, str) and ("\n" in source or "\r" in source):
+        return TextFile(source, "text", "")
+    data, label = read_bytes(source, what=what, limit_mb=limit_mb)
+    return decode(data, what=what, label=label)
+
+
+def same_file(a: str | os.PathLike[str], b: str | os.PathLike[str]) -> bool:
+    """True when two paths name the same file (after resolving links)."""
+    pa, pb = Path(a), Path(b)
+    try:
+        if pa.exists() and pb.exists():
+            return os.path.samefile(pa, pb)
+    except OSError:
+        pass
+    return pa.resolve() == pb.resolve()
+
+
+def refuse_overwriting_inputs(
+    out: str | os.PathLike[str], *inputs: Any, option: str = "--out"
+) -> None:
+    """Refuse an output path that is one of the command's own input files."""
+    for given in inputs:
+        if isinstance(given, str | os.PathLike) and same_file(out, given):
+            raise InputError(
+                "The output file is one of the input files, so writing it would destroy the input",
+                where=f"{option} {out}",
+                fix="Write the output to a new file name",
+            )
+
+
+def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str = "file") -> Path:
+    """Write ``data`` to ``path`` all at once: a temporary file in the same folder, flushed to
+    disk, then renamed over the target. On failure the old file (if any) is left as it was and
+    no temporary file stays behind.
+
+    Raises
+    ------
+    InputError
+        When the folder does not exist or the file cannot be written, naming the file.
+    """
+    target = Path(path)
+    payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(
+            f"The folder for the {what} does not exist",
+            where=str(folder),
+            fix="Create the folder first or write somewhere else",
+        )
+    if target.is_dir():
+        raise InputError(
+            f"The path for the {what} is a folder", where=str(target), fix="Give a file name"
+        )
+    tmp_name = None
+    try:
+        fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(payload)
+            handle.flush()
+            os.fsync(handle.fileno())
+        if target.exists():
+            try:
+                os.chmod(tmp_name, stat.S_IMODE(target.stat().st_mode))
+            except OSError:
+                pass
+        else:
+            os.chmod(tmp_name, 0o666 & ~_umask())
+        os.replace(tmp_name, target)
+        tmp_name = None
+    except OSError as exc:
+        raise InputError(
+            f"The {what} could not be written ({exc.strerror or exc}); any earlier file there is "
+            "unchanged",
+            where=str(target),
+            fix="Free some disk space or choose a folder you can write to",
+        ) from None
+    finally:
+        if tmp_name is not None:
+            try:
+                os.unlink(tmp_name)
+            except OSError:
+                pass
+    return target
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
