@@ -18,6 +18,7 @@ from __future__ import annotations
 import datetime as dt
 import logging
 import re
+import unicodedata
 from collections.abc import Iterable
 from dataclasses import dataclass, field
 from functools import lru_cache
@@ -89,15 +90,21 @@ def day_type_label(day_type: str) -> str:
 def normalise_type_name(name: str) -> str:
     """Return ``name`` in lower_snake_case (``"Year End"`` -> ``"year_end"``).
 
+    Full-width and other compatibility forms are folded first (Unicode NFKC), so ``ｈｏｌｉｄａｙ``
+    is ``holiday``; accents are dropped (``Fête`` -> ``fete``).
+
     Raises
     ------
     InputError
         If nothing usable is left (the name has no letters or digits).
     """
-    text = re.sub(r"[^0-9a-zA-Z]+", "_", str(name).strip()).strip("_").lower()
+    folded = unicodedata.normalize("NFKC", str(name))
+    ascii_text = unicodedata.normalize("NFKD", folded).encode("ascii", "ignore").decode("ascii")
+    text = re.sub(r"[^0-9a-zA-Z]+", "_", ascii_text.strip()).strip("_").lower()
     if not text:
+        shown = " ".join(str(name).split())[:40]
         raise InputError(
-            f"The day-type name {name!r} has no letters or digits",
+            f"The day-type name '{shown}' has no letters or digits of the Latin alphabet (a-z, 0-9)",
             where="calendar override",
             fix="Give the override a name such as year_end or plant_shutdown",
         )

@@ -293,3 +293,12 @@ def test_spec_round_trips_through_json():
     again = CalendarSpec.from_dict(json.loads(json.dumps(spec.to_dict())))
     assert again == spec
     assert CalendarSpec.from_dict({}) == CalendarSpec()
+
+
+def test_type_names_fold_full_width_and_accented_letters():
+    """Unicode NFKC folds full-width forms to ASCII (Unicode Standard Annex #15)."""
+    assert normalise_type_name("ｈｏｌｉｄａｙ") == "holiday"
+    assert normalise_type_name("Ｙｅａｒ Ｅｎｄ") == "year_end"
+    assert normalise_type_name("Fête nationale") == "fete_nationale"
+    with pytest.raises(InputError, match="no letters or digits of the Latin alphabet"):
+        normalise_type_name("日本")

@@ -226,8 +226,8 @@ def test_old_search_limit_spellings_still_work_with_a_note(capsys):
 def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
     seen = {}
 
-    def fake_run(command, env, check):
-        seen["command"], seen["env"] = command, env
+    def fake_run(command, env, check, cwd):
+        seen["command"], seen["env"], seen["cwd"] = command, env, cwd
         return subprocess.CompletedProcess(command, 0)
 
     monkeypatch.setattr(app_command.subprocess, "run", fake_run)
@@ -238,16 +238,27 @@ def test_app_wraps_streamlit(monkeypatch, tmp_path, capsys):
     assert command[:4] == [sys.executable, "-m", "streamlit", "run"]
     assert Path(command[4]) == REPO / "app" / "main.py"
     flags = dict(zip(command[5::2], command[6::2], strict=True))
-    assert flags == {
+    assert {
+        "--server.address": "127.0.0.1",
         "--server.port": "8765",
         "--server.headless": "true",
         "--browser.gatherUsageStats": "false",
-    }
+    }.items() <= flags.items()
+    # The project's own settings travel with the command, whatever the working directory.
+    assert flags["--server.maxUploadSize"] == "50"
+    assert flags["--client.showErrorDetails"] == "none"
+    assert Path(seen["cwd"]) == REPO
     assert seen["env"]["LOADCORE_HISTORY"] == str(history.resolve())
-    assert "localhost:8765" in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert "localhost:8765" in err and "no login" not in err
     assert main(["app", "--history", str(tmp_path / "missing.csv")]) == 1
     _one_error_line(capsys.readouterr().err)
     assert main(["app", "--port", "99999"]) == 2
+    capsys.readouterr()
+    assert main(["app", "--address", "0.0.0.0"]) == 0
+    assert seen["command"][seen["command"].index("--server.address") + 1] == "0.0.0.0"
+    assert "no login" in capsys.readouterr().err
+    assert main(["app", "--address", "not-an-ip"]) == 2
 
 
 # ------------------------------------------------------------------------------- fit and forecast
