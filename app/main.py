@@ -49,7 +49,8 @@ logger = logging.getLogger("loadcore.app")
 
 st.set_page_config(
     page_title="loadcore planner",
-    page_icon=":material/bolt:",
+    # A local image: an icon name would make the browser fetch it from a font server.
+    page_icon=str(_REPO / "app" / "assets" / "icon.png"),
     layout="wide",
     initial_sidebar_state="expanded",
 )

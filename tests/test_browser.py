@@ -114,6 +114,23 @@ def _shot(page, name: str) -> None:
     page.screenshot(path=str(ARTIFACTS / f"{name}.png"))
 
 
+def _block_outside_requests(page) -> list[str]:
+    """Abort every request that leaves this machine and keep its address (for an assertion)."""
+    outside: list[str] = []
+
+    def handle(route) -> None:
+        url = route.request.url
+        host = url.split("//", 1)[-1].split("/", 1)[0].split(":", 1)[0]
+        if url.startswith(("data:", "blob:")) or host in ("127.0.0.1", "localhost"):
+            route.continue_()
+        else:
+            outside.append(url)
+            route.abort()
+
+    page.route("**/*", handle)
+    return outside
+
+
 def _go(page, link: str, title: str) -> None:
     page.get_by_role("link", name=link, exact=True).first.click()
     page.get_by_role("heading", name=title, exact=True).first.wait_for(timeout=STEP_TIMEOUT_MS)
@@ -132,6 +149,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
         try:
             page = browser.new_page(viewport={"width": 1440, "height": 1000}, accept_downloads=True)
             page.set_default_timeout(STEP_TIMEOUT_MS)
+            outside = _block_outside_requests(page)
             page.goto(served_app)
             page.get_by_role("heading", name="History", exact=True).wait_for()
             page.locator(".js-plotly-plot").first.wait_for()
@@ -174,7 +192,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             expected = {
                 "scenario",
                 "date",
-                "temperature",
+                "temperature_c",
                 "day_type",
                 "mean",
                 "median",
@@ -184,6 +202,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
                 "upper_95",
                 "out_of_range",
                 "out_of_range_by_c",
+                "sparse_temperature",
             }
             assert set(rows[0]) == expected
             assert {r["scenario"] for r in rows} == {"Heat wave"}
@@ -199,6 +218,8 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             page.locator(".js-plotly-plot").first.wait_for()
             assert page.locator("[data-testid='stSidebar']").is_hidden()
             _shot(page, "05_meeting_view")
+            # The app works offline: no font, icon or script is fetched from outside.
+            assert outside == [], outside
         finally:
             browser.close()
 
