@@ -1,0 +1,203 @@
+"""The history check as a short pipeline, and the two public entry points.
+
+source -> raw columns (:mod:`~loadcore.history.reading`) -> dates and numbers
+(:mod:`~loadcore.history.parsing`) -> °C and plausible values (here) -> one row per day and the
+complete daily table (:mod:`~loadcore.history.daily`). Every stage adds what it finds to one
+:class:`~loadcore.history.report.Collector`. :func:`check_history` returns the report and never
+raises for problems in the data; :func:`read_history` returns a :class:`History` or raises
+:class:`~loadcore.errors.HistoryError` carrying the report.
+"""
+
+from __future__ import annotations
+
+import logging
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from loadcore.errors import HistoryError
+from loadcore.history.daily import complete_daily, to_daily
+from loadcore.history.parsing import parse_dates, parse_numbers
+from loadcore.history.reading import RawColumns, read_raw, source_label
+from loadcore.history.report import Collector, HistoryReport, Issue, iso_date
+from loadcore.history.settings import HistorySettings
+from loadcore.history.table import History
+
+logger = logging.getLogger(__name__)
+
+# Physical plausibility bounds for a daily temperature at a populated place, °C
+# (common practice, no source; the recorded extremes lie inside them).
+TEMP_MIN_C = -60.0
+TEMP_MAX_C = 60.0
+
+
+def _to_celsius(temp: np.ndarray, settings: HistorySettings) -> np.ndarray:
+    """The file's temperatures in °C: C = (F - 32) x 5/9 (exact definition, no source).
+
+    Written out rather than :func:`loadcore.units.f_to_c`, whose ``(F - 32) / 1.8`` differs in
+    the last bit for about a third of values: using it would change the fingerprint of every
+    history already read from a °F file.
+    """
+    if settings.temp_unit == "F":
+        return (temp - 32.0) * 5.0 / 9.0
+    return temp
+
+
+def _check_values(
+    raw: RawColumns,
+    stamps: pd.Series,
+    demand: np.ndarray,
+    temp: np.ndarray,
+    settings: HistorySettings,
+    issues: Collector,
+) -> None:
+    """Temperatures (°C) outside the plausible range and demand at or below zero are errors."""
+    _, demand_name, temp_name = raw.names
+    implausible = np.flatnonzero(~np.isnan(temp) & ((temp < TEMP_MIN_C) | (temp > TEMP_MAX_C)))
+    if len(implausible):
+        hint = (
+            " If the file is in °F, set temp_unit to 'F'"
+            if settings.temp_unit == "C" and np.nanmax(temp) > TEMP_MAX_C
+            else ""
+        )
+        issues.many(
+            "error",
+            lambda i: (
+                f"The temperature {temp[implausible[i]]:.1f} °C is outside the plausible range "
+                f"{TEMP_MIN_C:.0f} to {TEMP_MAX_C:.0f} °C",
+                {
+                    "row": int(raw.rows[implausible[i]]),
+                    "date": iso_date(stamps.iloc[implausible[i]]),
+                },
+            ),
+            len(implausible),
+            kind="implausible temperatures",
+            fix="Correct the value or leave the cell blank." + hint,
+            column=temp_name,
+            rows=[int(raw.rows[p]) for p in implausible],
+        )
+    nonpositive = np.flatnonzero(~np.isnan(demand) & (demand <= 0))
+    if len(nonpositive):
+        issues.many(
+            "error",
+            lambda i: (
+                f"The demand is {demand[nonpositive[i]]:g}; it must be above zero because the "
+                "model works with the logarithm of demand",
+                {
+                    "row": int(raw.rows[nonpositive[i]]),
+                    "date": iso_date(stamps.iloc[nonpositive[i]]),
+                },
+            ),
+            len(nonpositive),
+            kind="zero or negative demand values",
+            fix="Correct the value, or leave the cell blank to mark the day as missing",
+            column=demand_name,
+            rows=[int(raw.rows[p]) for p in nonpositive],
+        )
+
+
+def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.DataFrame | None]:
+    """The report and, when it has no errors, the complete daily table."""
+    issues = Collector()
+    raw = read_raw(source, settings, issues)
+    if raw is None:
+        return issues.report(), None
+    if len(raw.rows) == 0:
+        issues.add(
+            "error", "The history has a header but no data rows", fix="Choose a file with data"
+        )
+        return issues.report(), None
+    _, demand_name, temp_name = raw.names
+    stamps = parse_dates(raw, settings, issues)
+    demand = parse_numbers(raw.demand, raw, stamps, demand_name, "demand", issues)
+    temp = parse_numbers(raw.temperature, raw, stamps, temp_name, "temperature", issues)
+    temp = _to_celsius(temp, settings)
+    _check_values(raw, stamps, demand, temp, settings, issues)  # rows still in file order
+
+    valid = stamps.notna().to_numpy()
+    if not valid.any():
+        return issues.report(), None
+    stamps_v = stamps[valid].reset_index(drop=True)
+    daily = to_daily(
+        stamps_v, raw.rows[valid], demand[valid], temp[valid], settings, raw.names, issues
+    )
+    if issues.has_errors:
+        return issues.report(), None
+    frame = complete_daily(daily, settings, raw.names, issues)
+    return issues.report(), frame
+
+
+def _analyse_safely(
+    source: Any, settings: HistorySettings
+) -> tuple[HistoryReport, pd.DataFrame | None]:
+    """:func:`_analyse`, with any unforeseen failure turned into an error in the report."""
+    try:
+        return _analyse(source, settings)
+    except Exception as exc:  # noqa: BLE001 - the user must get a report, never a traceback
+        logger.exception("unexpected failure while checking a history")
+        issue = Issue(
+            "error",
+            f"The history could not be checked because of an unexpected problem ({exc})",
+            fix="Check that the file is a plain CSV table; if it is, report this to the "
+            "loadcore maintainers with the file",
+        )
+        return HistoryReport((issue,)), None
+
+
+def check_history(source: Any, settings: HistorySettings = HistorySettings()) -> HistoryReport:  # noqa: B008
+    """Check a history without raising for problems in the data.
+
+    Parameters
+    ----------
+    source : path, file-like, bytes or DataFrame
+        The history.
+    settings : HistorySettings
+        Column names, units and limits.
+
+    Returns
+    -------
+    HistoryReport
+        Every error, warning and note found.
+    """
+    report, _ = _analyse_safely(source, settings)
+    return report
+
+
+def read_history(source: Any, settings: HistorySettings = HistorySettings()) -> History:  # noqa: B008
+    """Read and validate a history into a complete daily table.
+
+    Parameters
+    ----------
+    source : path, file-like, bytes or DataFrame
+        CSV with a date column, a demand column (in ``settings.demand_unit``) and a temperature
+        column (°C or °F per ``settings.temp_unit``); daily or sub-daily rows.
+    settings : HistorySettings
+        Column names, units and limits.
+
+    Returns
+    -------
+    History
+        The daily table, the settings, the report and the data's fingerprint.
+
+    Raises
+    ------
+    HistoryError
+        When the report has errors; ``err.report`` holds the full report.
+    """
+    report, frame = _analyse_safely(source, settings)
+    if frame is None or not report.ok:
+        errors = report.errors
+        first = errors[0] if errors else Issue("error", "The history could not be read")
+        more = (
+            f" (and {len(errors) - 1} more problem(s); see the report)" if len(errors) > 1 else ""
+        )
+        raise HistoryError(
+            first.message + more,
+            report=report,
+            where=first.where() or source_label(source),
+            fix=first.fix or None,
+        )
+    for issue in report.warnings:
+        logger.info("history warning: %s", issue.message)
+    return History(frame=frame, settings=settings, report=report)

@@ -1,0 +1,242 @@
+"""Reading a history source into its three raw columns, before any parsing.
+
+A source is a path, a file-like object, bytes, CSV text (a ``str`` holding a line break) or a
+DataFrame. Files go through the one file policy of :mod:`loadcore.files` (regular files only, a
+size cap before reading, one list of encodings, spreadsheets and binary data named); then the
+delimiter (comma, semicolon, tab or pipe) and the header line are found and the date, demand and
+temperature columns picked out by name, ignoring case and surrounding spaces.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import os
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from loadcore import files
+from loadcore.errors import InputError
+from loadcore.history.report import Collector
+from loadcore.history.settings import HistorySettings
+
+DELIMITERS = (",", ";", "\t", "|")
+
+
+@dataclass(frozen=True)
+class RawColumns:
+    """The three wanted columns as read, before parsing, with their file row numbers."""
+
+    rows: np.ndarray  # 1-based data row numbers
+    date: pd.Series  # str or datetime64
+    demand: pd.Series  # str or numeric
+    temperature: pd.Series  # str or numeric
+    names: tuple[str, str, str]  # column names as found in the file
+
+
+def source_label(source: Any) -> str:
+    """How a source is named in messages: its path, its ``name`` or its type."""
+    if isinstance(source, (str, os.PathLike)):
+        return str(source)
+    return getattr(source, "name", None) or type(source).__name__
+
+
+def _read_text(source: Any, issues: Collector) -> str | None:
+    """Text of a path, bytes or file-like object; None (with an error) if it cannot be read.
+
+    The one file policy of :mod:`loadcore.files` applies: regular files only, a size cap checked
+    before reading, spreadsheets and binary data recognised, one list of encodings.
+    """
+    label = source_label(source)
+    if isinstance(source, str) and ("\n" in source or "\r" in source):
+        return source
+    try:
+        data, _ = files.read_bytes(source, what="history file")
+        decoded = files.decode(data, what="history file", label=label)
+    except InputError as exc:
+        issues.add(
+            "error", exc.problem + (f" ({exc.where})" if exc.where else ""), fix=exc.fix or ""
+        )
+        return None
+    if decoded.fallback:
+        issues.add(
+            "info",
+            f"The file {label!r} is not UTF-8; it was read as {decoded.encoding}",
+            fix="Save the file as UTF-8 to avoid misread characters",
+        )
+    return decoded.text
+
+
+def _norm(name: str) -> str:
+    return str(name).strip().strip("\ufeff").strip('"').strip().lower()
+
+
+def _detect_delimiter(lines: list[str], wanted: Sequence[str]) -> str:
+    """Pick the delimiter whose split of an early line holds the wanted columns, else sniff."""
+    wanted_n = [_norm(w) for w in wanted]
+    for line in lines[:30]:
+        for delim in DELIMITERS:
+            cells = [_norm(c) for c in line.split(delim)]
+            if all(w in cells for w in wanted_n):
+                return delim
+    sample = "\n".join(lines[:50])
+    try:
+        return csv.Sniffer().sniff(sample, delimiters="".join(DELIMITERS)).delimiter
+    except csv.Error:
+        counts = {d: sum(line.count(d) for line in lines[:50]) for d in DELIMITERS}
+        return max(counts, key=lambda d: counts[d]) if max(counts.values()) > 0 else ","
+
+
+def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> RawColumns | None:
+    lines = text.splitlines()
+    wanted = (settings.date_col, settings.demand_col, settings.temp_col)
+    if not any(line.strip() for line in lines):
+        issues.add(
+            "error", "The history file is empty", fix="Choose a file with a header and data rows"
+        )
+        return None
+    delim = _detect_delimiter(lines, wanted)
+    try:
+        records = list(csv.reader(io.StringIO(text, newline=""), delimiter=delim))
+    except csv.Error as exc:
+        issues.add(
+            "error",
+            f"The file cannot be read as a table ({exc})",
+            fix="Save the history as a plain CSV file with one row per line",
+        )
+        return None
+    wanted_n = [_norm(w) for w in wanted]
+    header_at = None
+    for i, rec in enumerate(records[:30]):
+        cells = [_norm(c) for c in rec]
+        if all(w in cells for w in wanted_n):
+            header_at = i
+            break
+    if header_at is None:
+        first = next((rec for rec in records if any(c.strip() for c in rec)), [])
+        found = ", ".join(repr(c.strip()) for c in first) or "none"
+        missing = [
+            w for w, n in zip(wanted, wanted_n, strict=True) if n not in [_norm(c) for c in first]
+        ]
+        setting_of = {
+            settings.date_col: "date_col",
+            settings.demand_col: "demand_col",
+            settings.temp_col: "temp_col",
+        }
+        for name in missing:
+            issues.add(
+                "error",
+                f"The column {name!r} is not in the file; the columns found are {found}",
+                column=name,
+                fix=f"Set the {setting_of[name]} setting to the name of that column in the file",
+            )
+        return None
+    if header_at > 0:
+        issues.add(
+            "info",
+            f"The first {header_at} line(s) before the header were ignored",
+            fix="Nothing to do if they are notes or titles",
+        )
+    header = [_norm(c) for c in records[header_at]]
+    positions = [header.index(w) for w in wanted_n]
+    names = tuple(records[header_at][p].strip().strip("\ufeff") for p in positions)
+    unused = [
+        c.strip() for j, c in enumerate(records[header_at]) if j not in positions and c.strip()
+    ]
+    if unused:
+        issues.add(
+            "info",
+            "These columns are not used: " + ", ".join(repr(u) for u in unused),
+            fix="Nothing to do unless one of them is the demand or temperature you meant",
+        )
+    data = records[header_at + 1 :]
+    needed = max(positions) + 1
+    numbers = np.arange(1, len(data) + 1, dtype=np.int64)
+    lengths = np.fromiter(map(len, data), dtype=np.int64, count=len(data))
+    blank = np.fromiter((not "".join(rec).strip() for rec in data), dtype=bool, count=len(data))
+    short = ~blank & (lengths < needed)
+    keep = ~blank & ~short
+    kept = [rec for rec, k in zip(data, keep.tolist(), strict=True) if k]
+    columns = [pd.Series([rec[p].strip() for rec in kept], dtype=object) for p in positions]
+    keep_rows = numbers[keep]
+    blank_rows = numbers[blank].tolist()
+    short_rows = list(zip(numbers[short].tolist(), lengths[short].tolist(), strict=True))
+    if blank_rows:
+        issues.many(
+            "info",
+            lambda i: ("This row is blank and was ignored", {"row": blank_rows[i]}),
+            len(blank_rows),
+            kind="blank rows ignored",
+            fix="Nothing to do",
+            rows=blank_rows,
+        )
+    if short_rows:
+        issues.many(
+            "error",
+            lambda i: (
+                f"This row has {short_rows[i][1]} field(s) but the header has {len(header)}",
+                {"row": short_rows[i][0]},
+            ),
+            len(short_rows),
+            kind="rows with too few fields",
+            fix=f"Check the row for a missing {'tab' if delim == chr(9) else repr(delim)} separator",
+            rows=[r for r, _ in short_rows],
+        )
+    return RawColumns(
+        rows=keep_rows,
+        date=columns[0],
+        demand=columns[1],
+        temperature=columns[2],
+        names=names,  # type: ignore[arg-type]
+    )
+
+
+def _raw_from_frame(
+    frame: pd.DataFrame, settings: HistorySettings, issues: Collector
+) -> RawColumns | None:
+    frame = frame.copy()
+    lookup = {_norm(c): c for c in frame.columns}
+    if _norm(settings.date_col) not in lookup and isinstance(frame.index, pd.DatetimeIndex):
+        frame = frame.reset_index(names=settings.date_col)
+        lookup = {_norm(c): c for c in frame.columns}
+    wanted = (settings.date_col, settings.demand_col, settings.temp_col)
+    missing = [w for w in wanted if _norm(w) not in lookup]
+    if missing:
+        found = ", ".join(repr(str(c)) for c in frame.columns) or "none"
+        for name in missing:
+            issues.add(
+                "error",
+                f"The column {name!r} is not in the table; the columns found are {found}",
+                column=name,
+                fix="Rename the column or change the column-name setting to match",
+            )
+        return None
+    cols = [lookup[_norm(w)] for w in wanted]
+
+    def prepared(series: pd.Series) -> pd.Series:
+        series = series.reset_index(drop=True)
+        if pd.api.types.is_datetime64_any_dtype(series) or pd.api.types.is_numeric_dtype(series):
+            return series
+        return series.map(
+            lambda v: "" if v is None or (isinstance(v, float) and np.isnan(v)) else str(v).strip()
+        )
+
+    return RawColumns(
+        rows=np.arange(1, len(frame) + 1, dtype=np.int64),
+        date=prepared(frame[cols[0]]),
+        demand=prepared(frame[cols[1]]),
+        temperature=prepared(frame[cols[2]]),
+        names=tuple(str(c) for c in cols),  # type: ignore[arg-type]
+    )
+
+
+def read_raw(source: Any, settings: HistorySettings, issues: Collector) -> RawColumns | None:
+    """The wanted columns of ``source``; None (with the errors in ``issues``) if unreadable."""
+    if isinstance(source, pd.DataFrame):
+        return _raw_from_frame(source, settings, issues)
+    text = _read_text(source, issues)
+    return None if text is None else _raw_from_text(text, settings, issues)

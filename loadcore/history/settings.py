@@ -1,0 +1,93 @@
+"""How to read a history file: :class:`HistorySettings`, validated completely by its constructor.
+
+The temperature unit is parsed by :func:`loadcore.units.parse_unit`, the one parser of "C"/"F";
+the other choices are checked here, once, so the reader trusts the settings it is given.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from loadcore import units
+from loadcore.errors import HistoryError, InputError
+
+TempKind = Literal["max", "mean"]
+SubdailyDemand = Literal["peak", "total"]
+
+
+@dataclass(frozen=True)
+class HistorySettings:
+    """How to read a history file.
+
+    Parameters
+    ----------
+    date_col, demand_col, temp_col : str
+        Column names in the file (matched ignoring case and surrounding spaces).
+    temp_unit : {"C", "F"}
+        Unit of the temperature column; °F is converted to °C on reading. Any spelling that
+        :func:`loadcore.units.parse_unit` accepts (``"f"``, ``"°F"``) is stored as ``"C"`` or
+        ``"F"``.
+    temp_kind : {"max", "mean"}
+        Whether the temperature is a daily maximum or mean (a label; sub-daily readings are
+        aggregated to the daily maximum or mean accordingly).
+    demand_unit : str
+        Label for the demand unit, e.g. ``"MW"``.
+    subdaily_demand : {"peak", "total"}
+        For sub-daily data: daily demand is the peak (max) or the total (sum) of the intervals.
+    date_format : str or None
+        A strftime pattern such as ``"%d/%m/%Y"`` to force; ``None`` detects the format.
+    max_temp_gap_days : int
+        Temperature gaps up to this many days are filled by linear interpolation; longer gaps
+        are errors.
+    max_demand_gap_days : int
+        Demand gaps up to this many days are kept as missing values; longer gaps are errors.
+    """
+
+    date_col: str = "date"
+    demand_col: str = "demand"
+    temp_col: str = "temperature"
+    temp_unit: units.Unit = "C"
+    temp_kind: TempKind = "max"
+    demand_unit: str = "MW"
+    subdaily_demand: SubdailyDemand = "peak"
+    date_format: str | None = None
+    max_temp_gap_days: int = 3
+    max_demand_gap_days: int = 31
+
+    def __post_init__(self) -> None:
+        where = "history settings: temp_unit"
+        try:
+            unit = units.parse_unit(self.temp_unit, where=where)
+        except InputError as exc:
+            raise HistoryError(exc.problem, where=where, fix=exc.fix) from None
+        object.__setattr__(self, "temp_unit", unit)
+        if self.temp_kind not in ("max", "mean"):
+            raise HistoryError(
+                f"Unknown temperature kind {self.temp_kind!r}",
+                where="history settings: temp_kind",
+                fix="Use 'max' for daily maximum or 'mean' for daily mean temperature",
+            )
+        if self.subdaily_demand not in ("peak", "total"):
+            raise HistoryError(
+                f"Unknown sub-daily aggregation {self.subdaily_demand!r}",
+                where="history settings: subdaily_demand",
+                fix="Use 'peak' (daily maximum) or 'total' (daily sum)",
+            )
+        for name in ("max_temp_gap_days", "max_demand_gap_days"):
+            value = getattr(self, name)
+            if not isinstance(value, (int, np.integer)) or value < 0:
+                raise HistoryError(
+                    f"{name} must be a whole number of days, 0 or more (got {value!r})",
+                    where=f"history settings: {name}",
+                    fix="Give a number such as 3",
+                )
+        for name in ("date_col", "demand_col", "temp_col"):
+            if not str(getattr(self, name)).strip():
+                raise HistoryError(
+                    f"The {name} setting is empty",
+                    where=f"history settings: {name}",
+                    fix="Give the column's name as it appears in the file's header",
+                )
