@@ -63,12 +63,14 @@ def _numeric(values: Any) -> Any:
 
 def c_to_f(temperature_c: Any) -> Any:
     """Temperatures in °C to °F (F = C x 9/5 + 32); scalars, lists, arrays and Series alike."""
-    return _numeric(temperature_c) * F_PER_C + F_AT_ZERO_C
+    # Written as x 9 / 5 (not x 1.8) so that results match earlier versions bit for bit.
+    return _numeric(temperature_c) * 9.0 / 5.0 + F_AT_ZERO_C
 
 
 def f_to_c(temperature_f: Any) -> Any:
     """Temperatures in °F to °C (C = (F - 32) x 5/9); scalars, lists, arrays and Series alike."""
-    return (_numeric(temperature_f) - F_AT_ZERO_C) / F_PER_C
+    # Written as x 5 / 9 (not / 1.8) so that fingerprints of °F histories match earlier versions.
+    return (_numeric(temperature_f) - F_AT_ZERO_C) * 5.0 / 9.0
 
 
 def to_unit(temperature_c: Any, unit: Unit) -> Any:

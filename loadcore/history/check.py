@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from loadcore import units
 from loadcore.errors import HistoryError
 from loadcore.history.daily import complete_daily, to_daily
 from loadcore.history.parsing import parse_dates, parse_numbers
@@ -33,15 +34,8 @@ TEMP_MAX_C = 60.0
 
 
 def _to_celsius(temp: np.ndarray, settings: HistorySettings) -> np.ndarray:
-    """The file's temperatures in °C: C = (F - 32) x 5/9 (exact definition, no source).
-
-    Written out rather than :func:`loadcore.units.f_to_c`, whose ``(F - 32) / 1.8`` differs in
-    the last bit for about a third of values: using it would change the fingerprint of every
-    history already read from a °F file.
-    """
-    if settings.temp_unit == "F":
-        return (temp - 32.0) * 5.0 / 9.0
-    return temp
+    """The file's temperatures in °C (:func:`loadcore.units.from_unit`)."""
+    return units.from_unit(temp, settings.temp_unit)
 
 
 def _check_values(
