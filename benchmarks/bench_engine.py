@@ -39,10 +39,10 @@ def _grid_baseline(history, model, seed: int = 0) -> dict:
     """Fit a seeded sample of the thorough grid with statsmodels defaults, same regressors."""
     from statsmodels.tsa.statespace.sarimax import SARIMAX
 
-    from loadcore.model import _response
+    from loadcore.model import model_response
 
     frame = history.frame
-    y = _response(frame["demand"].to_numpy(float), model.settings.log)
+    y = model_response(frame["demand"].to_numpy(float), model.settings.log)
     types = model.calendar_types(frame.index).to_numpy(dtype=object)
     X = model.regressors(frame.index, frame["temperature_c"].to_numpy(float), types)
     grid = model.settings.bounds.all_orders(model.orders.d, model.orders.D)
@@ -74,8 +74,8 @@ def _peak_memory_mb() -> float:
         "from loadcore.model import fit, FitSettings\n"
         f"h = read_history({csv!r})\n"
         "fit(h, FitSettings(search='thorough'))\n"
-        "import loadcore.search as s\n"
-        "s._POOL and s._POOL.shutdown()\n"
+        "from loadcore.model import shutdown_workers\n"
+        "shutdown_workers()\n"
         "me = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
         "kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
         "print(me + kids)\n"

@@ -499,7 +499,7 @@ def out_of_range_days(forecasts: Sequence[ForecastLike], temp_unit: str = "C") -
 
 
 def describe_orders(order: Sequence[int], seasonal_order: Sequence[int]) -> str:
-    """Model orders in the product's one layout (:meth:`loadcore.search.Orders.describe`).
+    """Model orders in the product's one layout (:meth:`loadcore.model.Orders.describe`).
 
     Parameters
     ----------
@@ -508,7 +508,7 @@ def describe_orders(order: Sequence[int], seasonal_order: Sequence[int]) -> str:
     seasonal_order : (P, D, Q, s)
         Seasonal orders; ``s`` is 7 (weekly) for daily data.
     """
-    from .search import WEEKLY_PERIOD, Orders
+    from .model import WEEKLY_PERIOD, Orders
 
     p, d, q = (int(x) for x in tuple(order)[:3])
     seasonal = tuple(seasonal_order)

@@ -27,6 +27,7 @@ import pandas as pd
 
 from loadcore import texts
 from loadcore.errors import InputError, LoadcoreError, ScenarioError
+from loadcore.scenario import Scenario, fill_blank_day_types
 from loadcore.scores import sample_quantiles
 
 __all__ = [
@@ -422,11 +423,8 @@ def _day_type_values(model, dates: pd.DatetimeIndex, day_types) -> pd.Series:
                 fix="Give one day type per window day",
             )
         series = pd.Series(values, index=dates, dtype=object)
-    blank = series.isna() | (series.astype(str).str.strip() == "")
-    if blank.any():
-        calendar = pd.Series(list(model.calendar_types(dates)), index=dates)
-        series = series.where(~blank, calendar)
-    return series.astype(str)
+    filled = fill_blank_day_types(list(series), model.calendar_types(dates), where="day_types")
+    return pd.Series(filled, index=dates, dtype=object).astype(str)
 
 
 def pool_trace_paths(
@@ -464,8 +462,6 @@ def pool_trace_paths(
     -------
     ndarray, shape (n_traces, paths_per_trace, days), MW.
     """
-    from loadcore.scenario import Scenario
-
     paths_per_trace = _check_int(paths_per_trace, "paths_per_trace", 1, 1_000_000)
     dates = pd.DatetimeIndex(traces.index)
     types = _day_type_values(model, dates, day_types)

@@ -431,7 +431,7 @@ def saved_model_doc():
     """A real saved model as a dict (small fit on a synthetic year), to mutate."""
     model = pytest.importorskip("loadcore.model")
     history_mod = pytest.importorskip("loadcore.history")
-    from loadcore.terms import TermSpec
+    from loadcore.model import TermSpec
 
     rng = np.random.default_rng(3)
     idx = pd.date_range("2029-01-01", periods=366, freq="D", name="date")

@@ -641,8 +641,8 @@ def test_cli_export_csv_and_html(library, tmp_path, capsys):
 def test_cli_save_with_a_fitted_model(tmp_path, demo_history, capsys):
     """End to end: fit the demo history, save a scenario file through the CLI, list and export it."""
     model_mod = pytest.importorskip("loadcore.model")
+    from loadcore.model import TermSpec
     from loadcore.scenario import write_scenario_csv
-    from loadcore.terms import TermSpec
 
     history = demo_history
     cut = history.frame.iloc[-366:]

@@ -7,15 +7,16 @@ import pandas as pd
 import pytest
 from scipy import stats
 
-from loadcore.model import autocorrelations, ljung_box
-from loadcore.search import (
+from loadcore.model import (
     Orders,
     aicc,
+    autocorrelations,
     build_state_space,
     css_screen,
     exact_fit,
     kpss_differences,
     kpss_statistic,
+    ljung_box,
 )
 
 

@@ -157,8 +157,7 @@ def model():
     """A model fitted with fixed orders (AR 1) to the simulated history of test_evaluate."""
     from test_evaluate import simulated_history
 
-    from loadcore.model import FitSettings, fit
-    from loadcore.search import Orders
+    from loadcore.model import FitSettings, Orders, fit
 
     return fit(simulated_history(years=6), FitSettings(), orders=Orders(1, 0, 0, 0, 0, 0))
 

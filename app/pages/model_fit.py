@@ -10,8 +10,7 @@ import streamlit as st
 from app import charts, state
 from loadcore.errors import LoadcoreError
 from loadcore.export import check_upload_size
-from loadcore.model import FitSettings, load_model
-from loadcore.terms import TermSpec
+from loadcore.model import FitSettings, TermSpec, load_model
 
 st.title("Model")
 history = state.history()

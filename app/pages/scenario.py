@@ -18,6 +18,7 @@ from loadcore.scenario import (
     cold_snap,
     constant_path,
     copy_period,
+    fill_blank_day_types,
     heat_wave,
     make_scenario,
     read_scenario_csv,
@@ -230,8 +231,7 @@ except LoadcoreError as exc:
     state.show_error(exc)
     state.footer()
     st.stop()
-given = base_types if base_types else [""] * len(dates)
-start_types = [mine or cal for mine, cal in zip(given, calendar, strict=True)]
+start_types = list(fill_blank_day_types(base_types or None, calendar))
 base_type = BASE_TYPE[fitted.settings.calendar.scheme]
 levels = [base_type] + [str(t) for t in fitted.day_type_levels if str(t) != base_type]
 options = list(dict.fromkeys(levels + [t for t in start_types if t not in levels]))

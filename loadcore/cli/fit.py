@@ -102,8 +102,7 @@ def add_model_options(parser: argparse.ArgumentParser) -> None:
 def fit_settings(args: argparse.Namespace):
     """``FitSettings`` from the fit options."""
     from loadcore.calendar import CalendarSpec, overrides_from_text, parse_holidays
-    from loadcore.model import FitSettings
-    from loadcore.terms import TermSpec
+    from loadcore.model import FitSettings, TermSpec
 
     calendar: dict[str, Any] = {}
     if args.holidays is not None:

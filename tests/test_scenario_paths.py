@@ -1,9 +1,7 @@
-"""Tests for loadcore.scenario: path builders, validation, definition files and scenario CSVs."""
+"""Scenario path builders: constant, seasonal normal, heat wave, cold snap, copy, shift."""
 
 from __future__ import annotations
 
-import io
-import json
 from types import SimpleNamespace
 
 import numpy as np
@@ -12,19 +10,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from loadcore.errors import InputError, ScenarioError
+from loadcore.errors import ScenarioError
 from loadcore.scenario import (
-    MAX_DAYS,
-    Scenario,
     cold_snap,
     constant_path,
     copy_period,
     heat_wave,
     make_scenario,
-    read_scenario_csv,
     seasonal_normal_path,
     shift_path,
-    write_scenario_csv,
 )
 
 
@@ -33,9 +27,6 @@ def _history(temps: np.ndarray, start: str = "2020-01-01") -> SimpleNamespace:
     index = pd.date_range(start, periods=len(temps), freq="D", name="date")
     frame = pd.DataFrame({"demand": 1000.0, "temperature_c": np.asarray(temps, float)}, index=index)
     return SimpleNamespace(frame=frame)
-
-
-# ------------------------------------------------------------------------------------- path builders
 
 
 def test_constant_path_shape():
@@ -211,201 +202,6 @@ def test_shift_path():
     assert shift_path(base, 3).index.equals(base.index)
     with pytest.raises(ScenarioError):
         shift_path([1, 2, 3], 1.0)
-
-
-# ------------------------------------------------------------------------------------- make_scenario
-
-
-def test_make_scenario_builds_a_frozen_scenario():
-    path = constant_path("2026-07-01", 14, 30.0)
-    scen = make_scenario("Hot fortnight", path, model_end="2026-06-30")
-    assert scen.horizon == 14
-    assert scen.start == pd.Timestamp("2026-07-01")
-    assert scen.end == pd.Timestamp("2026-07-14")
-    assert scen.day_types is None
-    frame = scen.to_frame()
-    assert list(frame.columns) == ["date", "temperature_c", "day_type"]
-    assert (frame["day_type"] == "").all()
-    with pytest.raises(AttributeError):
-        scen.name = "other"  # type: ignore[misc]
-    with pytest.raises(ValueError):
-        scen.temperature_c[0] = 0.0
-
-
-def test_make_scenario_wrong_start_names_the_expected_date():
-    path = constant_path("2026-07-03", 5, 30.0)
-    with pytest.raises(ScenarioError) as info:
-        make_scenario("late", path, model_end="2026-06-30")
-    assert "2026-07-01" in str(info.value)
-    assert "2026-07-03" in str(info.value)
-
-
-def test_make_scenario_horizon_limits():
-    make_scenario("longest", constant_path("2026-07-01", MAX_DAYS, 20.0))
-    with pytest.raises(ScenarioError, match="more than the 90"):
-        make_scenario("too long", constant_path("2026-07-01", MAX_DAYS + 1, 20.0))
-    with pytest.raises(ScenarioError, match="no days"):
-        make_scenario("empty", pd.Series([], index=pd.DatetimeIndex([]), dtype=float))
-    with pytest.raises(ScenarioError, match="more than the 10"):
-        make_scenario("short limit", constant_path("2026-07-01", 11, 20.0), max_days=10)
-
-
-def test_make_scenario_dates_must_be_consecutive():
-    path = constant_path("2026-07-01", 10, 20.0)
-    with pytest.raises(ScenarioError, match="Days are missing") as info:
-        make_scenario("gap", path.drop(path.index[4]))
-    assert "2026-07-06" in str(info.value)
-    twice = pd.concat([path.iloc[:3], path.iloc[2:]])
-    with pytest.raises(ScenarioError, match="appears twice"):
-        make_scenario("dup", twice)
-    with pytest.raises(ScenarioError, match="run forward"):
-        make_scenario("backwards", path.iloc[::-1])
-
-
-@pytest.mark.parametrize("bad", [np.nan, "", "  ", "warm", None, np.inf])
-def test_make_scenario_refuses_non_numbers_naming_the_date(bad):
-    path = constant_path("2026-07-01", 6, 20.0).astype(object)
-    path.iloc[3] = bad
-    with pytest.raises(ScenarioError, match="not a number") as info:
-        make_scenario("bad", path)
-    assert "2026-07-04" in str(info.value)
-
-
-@pytest.mark.parametrize("value", [60.5, -61.0, 95.0])
-def test_make_scenario_refuses_implausible_temperatures(value):
-    """A daily maximum outside -60..60 °C is not plausible (common practice, no source)."""
-    path = constant_path("2026-07-01", 3, 20.0)
-    path.iloc[1] = value
-    with pytest.raises(ScenarioError, match="plausible") as info:
-        make_scenario("odd", path)
-    assert "2026-07-02" in str(info.value)
-
-
-def test_make_scenario_accepts_the_plausible_edges():
-    path = pd.Series([-60.0, 60.0], index=pd.date_range("2026-07-01", periods=2))
-    assert make_scenario("edges", path).temperature_c.tolist() == [-60.0, 60.0]
-
-
-def test_make_scenario_text_numbers_and_blank_name():
-    path = pd.Series(["21.5", " 22 "], index=pd.date_range("2026-07-01", periods=2), dtype=object)
-    assert make_scenario("text", path).temperature_c.tolist() == [21.5, 22.0]
-    with pytest.raises(ScenarioError, match="no name"):
-        make_scenario("  ", path)
-
-
-def test_make_scenario_day_types_blank_means_calendar_and_names_are_normalised():
-    path = constant_path("2026-07-01", 4, 30.0)
-    scen = make_scenario("types", path, ["", None, "Plant Shutdown", np.nan])
-    assert scen.day_types == ("", "", "plant_shutdown", "")
-    assert make_scenario("none", path, ["", None, " ", np.nan]).day_types is None
-    with pytest.raises(ScenarioError, match="4 dates"):
-        make_scenario("short", path, ["holiday"])
-    with pytest.raises(ScenarioError, match="no letters") as info:
-        make_scenario("junk", path, ["", "--", "", ""])
-    assert "2026-07-02" in str(info.value)
-
-
-def test_fill_day_types_from_calendar():
-    path = constant_path("2026-07-01", 3, 30.0)
-    scen = make_scenario("fill", path, ["", "holiday", ""])
-    filled = scen.fill_day_types(["midweek", "midweek", "friday"])
-    assert filled.day_types == ("midweek", "holiday", "friday")
-    assert np.array_equal(filled.temperature_c, scen.temperature_c)
-    with pytest.raises(ScenarioError):
-        scen.fill_day_types(["midweek"])
-
-
-def test_scenario_constructor_checks_lengths():
-    dates = pd.date_range("2026-07-01", periods=3)
-    with pytest.raises(ScenarioError, match="3 dates but 2 temperatures"):
-        Scenario("x", dates, np.array([1.0, 2.0]))
-    with pytest.raises(ScenarioError, match="day types"):
-        Scenario("x", dates, np.ones(3), ("a",))
-
-
-# ----------------------------------------------------------------------------- definitions and CSVs
-
-
-def test_definition_round_trip_through_json():
-    path = heat_wave(constant_path("2026-07-01", 20, 26.0), 39.0, 9, 2, 4)
-    scen = make_scenario("Wave", path, [""] * 19 + ["holiday"], model_end="2026-06-30")
-    text = json.dumps(scen.to_dict())
-    again = Scenario.from_dict(json.loads(text), model_end="2026-06-30")
-    assert again == scen
-    assert Scenario.from_json(scen.to_json()) == scen
-    days = scen.to_dict()["days"]
-    assert days[0]["day_type"] is None and days[-1]["day_type"] == "holiday"
-
-
-def test_definition_errors_are_scenario_errors():
-    scen = make_scenario("x", constant_path("2026-07-01", 3, 20.0))
-    with pytest.raises(ScenarioError, match="not a loadcore scenario"):
-        Scenario.from_dict({"name": "x"})
-    data = scen.to_dict()
-    data["version"] = 99
-    with pytest.raises(ScenarioError, match="version"):
-        Scenario.from_dict(data)
-    data = scen.to_dict()
-    data["days"][1]["temperature_c"] = "hot"
-    with pytest.raises(ScenarioError, match="2026-07-02"):
-        Scenario.from_dict(data)
-    with pytest.raises(ScenarioError, match="starts on"):
-        Scenario.from_dict(scen.to_dict(), model_end="2026-07-05")
-    with pytest.raises(ScenarioError, match="not valid JSON"):
-        Scenario.from_json("{not json")
-
-
-def test_read_scenario_csv_celsius_with_day_types(tmp_path):
-    file = tmp_path / "july_heat.csv"
-    file.write_text(
-        "date,temperature,day_type\n2026-07-01,31.0,\n2026-07-02,33.5,holiday\n2026-07-03,35,\n"
-    )
-    scen = read_scenario_csv(file, model_end="2026-06-30")
-    assert scen.name == "july_heat"
-    assert scen.temperature_c.tolist() == [31.0, 33.5, 35.0]
-    assert scen.day_types == ("", "holiday", "")
-
-
-def test_read_scenario_csv_fahrenheit_and_other_columns():
-    """°F to °C: (F - 32) * 5 / 9 (common practice, no source)."""
-    text = b"Day,Tmax\n2026-01-05,14\n2026-01-06,-4\n"
-    scen = read_scenario_csv(text, temp_unit="F", date_col="day", temp_col="tmax", name="Freeze")
-    np.testing.assert_allclose(scen.temperature_c, [-10.0, -20.0])
-    assert scen.day_types is None
-    assert scen.name == "Freeze"
-
-
-def test_write_and_read_back_in_both_units():
-    path = cold_snap(constant_path("2026-12-01", 10, 3.0), -18.0, 6, 1, 2)
-    scen = make_scenario("Snap", path, [""] * 9 + ["year_end"])
-    for unit in ("C", "F"):
-        again = read_scenario_csv(io.StringIO(write_scenario_csv(scen, temp_unit=unit)),
-                                  temp_unit=unit, name="Snap")  # fmt: skip
-        np.testing.assert_allclose(again.temperature_c, scen.temperature_c, atol=1e-3)
-        assert again.day_types == scen.day_types
-        assert again.dates.equals(scen.dates)
-
-
-def test_read_scenario_csv_errors_name_row_column_or_file(tmp_path):
-    with pytest.raises(ScenarioError, match="no 'temperature' column") as info:
-        read_scenario_csv(b"date,temp\n2026-07-01,20\n")
-    assert "temp" in str(info.value)
-    with pytest.raises(ScenarioError, match="row 2") as info:
-        read_scenario_csv(b"date,temperature\n2026-07-01,20\n2026-07-02,\n")
-    assert "2026-07-02" in str(info.value)
-    with pytest.raises(ScenarioError, match="row 3"):
-        read_scenario_csv(b"date,temperature\n2026-07-01,20\n2026-07-02,21\nsoon,22\n")
-    with pytest.raises(ScenarioError, match="no rows"):
-        read_scenario_csv(b"date,temperature\n")
-    with pytest.raises(InputError, match="does not exist"):
-        read_scenario_csv(tmp_path / "missing.csv")
-    with pytest.raises(InputError, match="unit"):
-        read_scenario_csv(b"date,temperature\n2026-07-01,20\n", temp_unit="K")
-    with pytest.raises(ScenarioError, match="plausible"):
-        read_scenario_csv(b"date,temperature\n2026-07-01,95\n")  # °F read as °C
-
-
-# ------------------------------------------------------------------------ with the demo History
 
 
 def test_builders_accept_a_real_history(demo_history):

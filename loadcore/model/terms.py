@@ -1,8 +1,8 @@
 """Regressors for the demand model: temperature response, day types, annual terms, growth.
 
-The regression is on log demand (or demand) and every column here is built by one function,
-:func:`design_matrix`, for history and future dates alike, so that a scenario is always described
-by exactly the columns the model was fitted with.
+The regression is on log demand (or demand; :func:`model_response`) and every column here is
+built by one function, :func:`design_matrix`, for history and future dates alike, so that a
+scenario is always described by exactly the columns the model was fitted with.
 """
 
 from __future__ import annotations
@@ -12,7 +12,7 @@ from dataclasses import asdict, dataclass
 import numpy as np
 import pandas as pd
 
-from .errors import InputError
+from ..errors import InputError
 
 #: Temperature terms are (T - reference) / 10 and its square, so both are of order one and the
 #: optimiser sees well-scaled columns (common practice, no source).
@@ -81,6 +81,16 @@ class TermSpec:
         return ("temp", "temp_sq") if self.response == "quadratic" else ("hdd", "cdd")
 
 
+def model_response(demand: np.ndarray, use_log: bool) -> np.ndarray:
+    """The regression's response: log demand (NaN where demand is missing or not positive) for a
+    log model, demand otherwise."""
+    demand = np.asarray(demand, float)
+    if use_log:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(demand > 0, np.log(demand), np.nan)
+    return demand
+
+
 def type_column(day_type: str) -> str:
     """Name of the indicator column for a day type."""
     return f"type_{day_type}"
@@ -118,7 +128,8 @@ def design_matrix(
     temperature_c : array
         Daily temperature, °C.
     day_types : sequence of str
-        Day type of every date.
+        Day type of every date, each the base type or one of ``levels`` (checked by the caller:
+        :meth:`loadcore.model.FittedModel.regressors` for a fitted model).
     spec : TermSpec
         Regressor choice.
     levels : tuple of str
@@ -136,15 +147,6 @@ def design_matrix(
     """
     dates = pd.DatetimeIndex(dates)
     types = np.asarray(day_types, dtype=object)
-    known = set(levels) | {base_type}
-    unknown = sorted({str(t) for t in types} - known)
-    if unknown:
-        first = dates[np.isin(types, unknown)][0].date().isoformat()
-        raise InputError(
-            f"Day type '{unknown[0]}' was not seen in the fitted history",
-            where=f"first on {first}",
-            fix=f"Use one of: {', '.join(sorted(known))}, or refit with this type in the history",
-        )
     cols: dict[str, np.ndarray] = {}
     if intercept:
         cols["const"] = np.ones(len(dates))

@@ -1,0 +1,458 @@
+"""The fitted demand model: a typed, frozen result with the forecasts, tables and checks.
+
+Build it with :func:`loadcore.model.fit` or :func:`load_model`. Every field is typed and
+read-only; the derived facts (fingerprint, temperature range, coefficients) are properties or
+cached values, and :meth:`FittedModel.update` returns a new model through
+``dataclasses.replace``. Forecasts propagate the stored end state with our own code
+(:mod:`loadcore.model.forecast`); statsmodels is only called to re-run the filter
+(:meth:`~FittedModel.update`, :meth:`~FittedModel.statsmodels_results`).
+
+This module is a little over 400 lines because it is the one public face of a fitted model:
+every method is a short delegation to the module that owns the work (wording, diagnostics,
+forecast, state space, model file).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import hashlib
+import json
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from functools import cached_property
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from .. import levels as interval_levels
+from .. import texts, units
+from ..calendar import CalendarSpec, day_types
+from ..errors import ModelError, ScenarioError
+from ..history import History
+from ..scenario import Scenario
+from . import forecast as propagation
+from . import model_file, wording
+from .diagnostics import ACF_MAX_LAG, Diagnostics, diagnose
+from .forecast import Forecast
+from .orders import SHOCK_VARIANCE, DifferencingDecision, Orders
+from .settings import FitSettings
+from .statespace import EndState, run_filter
+from .terms import design_matrix, model_response
+
+
+def _frozen(values: Any) -> np.ndarray:
+    out = np.array(values, dtype=float)
+    out.setflags(write=False)
+    return out
+
+
+@dataclass(frozen=True, eq=False)
+class FittedModel:
+    """A fitted demand model (compared by identity).
+
+    Parameters
+    ----------
+    settings : FitSettings
+        The settings it was fitted with.
+    history : History
+        The daily history it was fitted on (and whose end its state describes).
+    orders : Orders
+        The error model's orders.
+    columns : tuple of str
+        Regression columns, in :func:`loadcore.model.terms.design_matrix` names.
+    day_type_levels : tuple of str
+        Day types with an indicator column (the base type excluded).
+    base_type : str
+        The reference day type.
+    origin : Timestamp
+        First day of the fitted history (where the growth term is zero).
+    intercept : bool
+        Whether the regression has a constant (not when the errors are differenced).
+    params : array
+        Regression coefficients, error parameters, shock variance (model scale), in the order of
+        ``param_names``.
+    param_names : tuple of str
+        ``columns`` followed by :meth:`Orders.parameter_names` (``error_ar_1``, ...,
+        ``shock_variance``).
+    covariance : (k, k) array
+        Parameter covariance (outer product of gradients; Berndt et al., 1974).
+    loglik, aicc : float
+        Exact log-likelihood and AICc on the model scale (log demand for a log model).
+    n_obs : int
+        Days the likelihood used.
+    converged : bool
+        Whether the chosen fit converged.
+    candidates : DataFrame
+        The search's candidate table (:func:`loadcore.model.search.candidate_table`).
+    differencing : DifferencingDecision
+        The differencing tests.
+    end_state : EndState
+        The error process at the end of the history.
+    residuals : Series
+        One-step-ahead prediction errors after the filter's start-up days, model scale.
+    fitted_at : str
+        When the parameters were estimated, UTC ISO time.
+    """
+
+    settings: FitSettings
+    history: History
+    orders: Orders
+    columns: tuple[str, ...]
+    day_type_levels: tuple[str, ...]
+    base_type: str
+    origin: pd.Timestamp
+    intercept: bool
+    params: np.ndarray
+    param_names: tuple[str, ...]
+    covariance: np.ndarray
+    loglik: float
+    aicc: float
+    n_obs: int
+    converged: bool
+    candidates: pd.DataFrame
+    differencing: DifferencingDecision
+    end_state: EndState
+    residuals: pd.Series
+    fitted_at: str = ""
+    _statsmodels: dict = field(default_factory=dict, init=False, repr=False)
+
+    def __post_init__(self) -> None:
+        set_ = object.__setattr__
+        set_(self, "columns", tuple(str(c) for c in self.columns))
+        set_(self, "day_type_levels", tuple(str(t) for t in self.day_type_levels))
+        set_(self, "param_names", tuple(str(n) for n in self.param_names))
+        set_(self, "origin", pd.Timestamp(self.origin))
+        set_(self, "params", _frozen(self.params))
+        set_(self, "covariance", _frozen(self.covariance))
+        set_(self, "loglik", float(self.loglik))
+        set_(self, "aicc", float(self.aicc))
+        set_(self, "n_obs", int(self.n_obs))
+        set_(self, "intercept", bool(self.intercept))
+        set_(self, "converged", bool(self.converged))
+        k = len(self.param_names)
+        if (
+            self.param_names != self.columns + self.orders.parameter_names()
+            or self.params.shape != (k,)
+            or self.covariance.shape != (k, k)
+            or not np.all(np.isfinite(self.params))
+        ):
+            raise ModelError(
+                "The model's parameters do not match its design",
+                where=f"{len(self.params)} values for {k} names",
+                fix="Refit the model",
+            )
+
+    # ---- basic facts ----------------------------------------------------------------------
+    @property
+    def order(self) -> tuple[int, int, int]:
+        return self.orders.order
+
+    @property
+    def seasonal_order(self) -> tuple[int, int, int, int]:
+        return self.orders.seasonal_order
+
+    @cached_property
+    def fingerprint(self) -> str:
+        """Fingerprint of the data and settings this model was fitted on."""
+        h = hashlib.sha256()
+        h.update(self.history.fingerprint.encode())
+        h.update(self.settings.key().encode())
+        return h.hexdigest()
+
+    @property
+    def data_fingerprint(self) -> str:
+        return self.history.fingerprint
+
+    @property
+    def history_end(self) -> pd.Timestamp:
+        return pd.Timestamp(self.history.frame.index[-1])
+
+    @cached_property
+    def temperature_range_c(self) -> tuple[float, float]:
+        """Lowest and highest daily temperature of the fitted history, °C."""
+        t = self.history.frame["temperature_c"].to_numpy(float)
+        return float(np.nanmin(t)), float(np.nanmax(t))
+
+    @property
+    def demand_unit(self) -> str:
+        settings = getattr(self.history, "settings", None)
+        return getattr(settings, "demand_unit", "MW") or "MW"
+
+    @property
+    def beta(self) -> np.ndarray:
+        """Regression coefficients, in ``columns`` order (model scale)."""
+        return self.params[: len(self.columns)]
+
+    @property
+    def shock_variance(self) -> float:
+        """Variance of the daily shocks of the error process (model scale)."""
+        return float(self.params[self.param_names.index(SHOCK_VARIANCE)])
+
+    @property
+    def candidates_evaluated(self) -> int:
+        return int(len(self.candidates) + self.candidates["exact_fit"].sum())
+
+    def calendar_types(self, dates) -> pd.Series:
+        """Day types for any dates from the model's calendar."""
+        return day_types(pd.DatetimeIndex(dates), self.calendar)
+
+    @property
+    def calendar(self) -> CalendarSpec:
+        return self.settings.calendar
+
+    # ---- regression pieces ----------------------------------------------------------------
+    def known_day_types(self) -> tuple[str, ...]:
+        """The day types this model can forecast: the base type and those of the history."""
+        return (self.base_type, *self.day_type_levels)
+
+    def regressors(self, dates, temperature_c, types) -> np.ndarray:
+        """The model's regression columns for any dates, temperatures (°C) and day types.
+
+        Raises
+        ------
+        ScenarioError
+            For a day type the fitted history does not contain (the one check of day types
+            against a model).
+        """
+        dates = pd.DatetimeIndex(dates)
+        types = np.asarray(types, dtype=object)
+        known = set(self.known_day_types())
+        for day, t in zip(dates, types, strict=True):
+            if t not in known:
+                raise ScenarioError(
+                    f"Day type '{t}' was not seen in the fitted history",
+                    where=f"{day:%Y-%m-%d}",
+                    fix=f"Use one of: {', '.join(sorted(known))}, or refit with this type in "
+                    "the history",
+                )
+        X = design_matrix(
+            dates,
+            np.asarray(temperature_c, float),
+            types,
+            self.settings.terms,
+            levels=self.day_type_levels,
+            base_type=self.base_type,
+            origin=self.origin,
+            intercept=self.intercept,
+        )
+        return X[list(self.columns)].to_numpy()
+
+    def to_demand(self, values):
+        """Model scale to demand (exp for a log model)."""
+        return np.exp(values) if self.settings.log else np.asarray(values, float)
+
+    def scenario_day_types(self, scenario: Scenario) -> np.ndarray:
+        """Every scenario day's type: the scenario's own, or the model's calendar where blank."""
+        return np.array(scenario.day_types_with(self.calendar_types(scenario.dates)), dtype=object)
+
+    def _scenario_inputs(
+        self, scenario: Scenario
+    ) -> tuple[pd.DatetimeIndex, np.ndarray, np.ndarray]:
+        """What a forecast needs from a scenario, after the checks that need the model (the
+        scenario checked everything else when it was built)."""
+        if not isinstance(scenario, Scenario):
+            raise ScenarioError(
+                f"Expected a Scenario, got {type(scenario).__name__}",
+                where="forecast",
+                fix="Build it with loadcore.scenario.make_scenario or Scenario(...)",
+            )
+        scenario.check_start(self.history_end)
+        return scenario.dates, scenario.temperature_c, self.scenario_day_types(scenario)
+
+    def linear_predictor(self, scenario: Scenario) -> np.ndarray:
+        """The regression part x'beta for each scenario day, model scale."""
+        dates, temps, types = self._scenario_inputs(scenario)
+        return self.regressors(dates, temps, types) @ self.beta
+
+    # ---- the error process and forecasts --------------------------------------------------
+    def simulate_noise(self, horizon: int, n_paths: int, seed: int | None = 0) -> np.ndarray:
+        """Error paths from the end of the history, shape (n_paths, horizon), model scale.
+
+        The error process does not depend on temperature, so one set of paths serves every
+        temperature trace.
+        """
+        return propagation.simulate_noise(self.end_state, horizon, n_paths, seed)
+
+    def sample_paths(self, scenario: Scenario, n_paths: int, seed: int | None = 0) -> np.ndarray:
+        """Demand sample paths for a scenario, shape (n_paths, horizon), demand units."""
+        lin = self.linear_predictor(scenario)
+        return self.to_demand(lin[None, :] + self.simulate_noise(len(lin), n_paths, seed))
+
+    def forecast(self, scenario: Scenario, levels: Sequence[float] = (80, 95)) -> Forecast:
+        """Forecast a scenario: mean, median, prediction intervals and range flags per day."""
+        levels = interval_levels.parse_levels(levels, where="interval levels")
+        dates, temps, types = self._scenario_inputs(scenario)
+        lin = self.regressors(dates, temps, types) @ self.beta
+        noise_mean, noise_var = propagation.noise_moments(self.end_state, len(dates))
+        frame = propagation.forecast_frame(
+            dates=dates,
+            temperature_c=temps,
+            day_types=types,
+            linear=lin,
+            noise_mean=noise_mean,
+            noise_var=noise_var,
+            use_log=self.settings.log,
+            levels=levels,
+            history_temperature_c=self.history.frame["temperature_c"].to_numpy(float),
+        )
+        return Forecast(
+            frame=frame,
+            levels=tuple(levels),
+            scenario_name=str(scenario.name),
+            demand_unit=self.demand_unit,
+            temperature_range_c=self.temperature_range_c,
+            note=texts.INTERVAL_CAUTION,
+        )
+
+    def fitted(self) -> pd.Series:
+        """One-step-ahead fitted demand over the history (median scale)."""
+        y = model_response(self.history.frame["demand"].to_numpy(float), self.settings.log)
+        y = pd.Series(y, index=self.history.frame.index)
+        return pd.Series(self.to_demand((y - self.residuals).dropna()), name="fitted")
+
+    def response_curve(self, temps_c) -> pd.DataFrame:
+        """Median demand against temperature for a reference-type day at the end of the history.
+
+        Annual terms are left at zero (their average over the year).
+        """
+        temps = np.asarray(temps_c, float)
+        n = len(temps)
+        X = design_matrix(
+            pd.DatetimeIndex([self.history_end] * n),
+            temps,
+            [self.base_type] * n,
+            self.settings.terms,
+            levels=self.day_type_levels,
+            base_type=self.base_type,
+            origin=self.origin,
+            intercept=self.intercept,
+        )
+        for c in X.columns:
+            if c.startswith("annual_"):
+                X[c] = 0.0
+        lin = X[list(self.columns)].to_numpy() @ self.beta
+        if not self.intercept:
+            # Differenced errors: the level comes from the end of the history.
+            lin = lin + (self.end_state.observation @ self.end_state.mean).item()
+        return pd.DataFrame({"temperature_c": temps, "demand": self.to_demand(lin)})
+
+    # ---- tables and words -----------------------------------------------------------------
+    def std_errors(self) -> np.ndarray:
+        return np.sqrt(np.clip(np.diag(self.covariance), 0, None))
+
+    def coefficient_table(self, temp_unit: str = "C") -> pd.DataFrame:
+        """Every estimated parameter with its standard error and a plain meaning.
+
+        ``temp_unit`` ("C" or "F") only changes how temperatures and per-degree effects are
+        worded in ``meaning``; estimates and standard errors stay on the model's own scale.
+        """
+        unit = units.parse_unit(temp_unit)
+        se = self.std_errors()
+        rows = []
+        for i, name in enumerate(self.param_names):
+            est = float(self.params[i])
+            meaning = wording.coefficient_meaning(
+                name,
+                est,
+                terms=self.settings.terms,
+                log=self.settings.log,
+                demand_unit=self.demand_unit,
+                base_type=self.base_type,
+                temp_unit=unit,
+            )
+            rows.append(
+                {
+                    "term": wording.term_label(name, self.orders.period),
+                    "estimate": est,
+                    "std_error": float(se[i]),
+                    "meaning": meaning,
+                }
+            )
+        return pd.DataFrame(rows)
+
+    def lowest_demand_temperature_c(self) -> float | None:
+        """Temperature of lowest demand, °C, or None when the response has no minimum."""
+        coefficients = dict(zip(self.columns, self.beta, strict=True))
+        return wording.lowest_demand_temperature_c(self.settings.terms, coefficients)
+
+    def describe_lowest_demand(self, temp_unit: str = "C") -> str:
+        """The temperature of lowest demand in words, in °C or °F."""
+        return wording.describe_lowest_demand(
+            self.settings.terms,
+            self.lowest_demand_temperature_c(),
+            self.temperature_range_c,
+            units.parse_unit(temp_unit),
+        )
+
+    def describe_errors(self) -> str:
+        """The error model in plain words."""
+        return wording.describe_errors(self.orders)
+
+    def diagnostics(self, max_lag: int = ACF_MAX_LAG) -> Diagnostics:
+        """Residual ACF with ±1.96/√n bounds and the Ljung-Box test at lag 14."""
+        return diagnose(self.residuals, self.orders.n_arma, max_lag)
+
+    # ---- re-running the filter ------------------------------------------------------------
+    def _design_history(self, history: History) -> tuple[np.ndarray, np.ndarray]:
+        frame = history.frame
+        dates = pd.DatetimeIndex(frame.index)
+        types = self.calendar_types(dates).to_numpy(dtype=object)
+        X = self.regressors(dates, frame["temperature_c"].to_numpy(float), types)
+        return model_response(frame["demand"].to_numpy(float), self.settings.log), X
+
+    def _keep_statsmodels_results(self, results: Any) -> None:
+        """Remember the filter results of this model's own history (a cache, not a field)."""
+        self._statsmodels["results"] = results
+
+    def statsmodels_results(self):
+        """statsmodels SARIMAX results with this model's parameters (filtered, not refitted)."""
+        if "results" not in self._statsmodels:
+            y, X = self._design_history(self.history)
+            self._keep_statsmodels_results(run_filter(y, X, self.orders, self.params).results)
+        return self._statsmodels["results"]
+
+    def update(self, history: History) -> FittedModel:
+        """The same parameters with the state re-run on another history (for rolling origins)."""
+        y, X = self._design_history(history)
+        run = run_filter(y, X, self.orders, self.params)
+        updated = dataclasses.replace(
+            self,
+            history=history,
+            end_state=run.end_state,
+            residuals=run.residuals(pd.DatetimeIndex(history.frame.index)),
+        )
+        updated._keep_statsmodels_results(run.results)
+        return updated
+
+    # ---- the model file -------------------------------------------------------------------
+    def to_dict(self) -> dict:
+        """The model file's content (format :data:`loadcore.model.model_file.FORMAT_VERSION`)."""
+        return model_file.model_to_dict(self)
+
+    def to_json(self) -> str:
+        return json.dumps(self.to_dict(), allow_nan=False)
+
+    def save(self, path: str | Path) -> Path:
+        path = Path(path)
+        path.write_text(self.to_json(), encoding="utf-8")
+        return path
+
+
+def load_model(source: str | Path | bytes) -> FittedModel:
+    """Load a model saved by :meth:`FittedModel.save`; JSON only, nothing is executed.
+
+    Reads model file formats 2 and 1 (see :mod:`loadcore.model.model_file`).
+
+    Parameters
+    ----------
+    source : path, JSON text or bytes
+
+    Raises
+    ------
+    ModelError
+        For anything that is not an intact model file (the embedded history must match its
+        fingerprint).
+    """
+    return model_file.read_model(source, FittedModel)

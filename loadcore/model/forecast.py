@@ -1,0 +1,129 @@
+"""Forecasts of a fitted model: the error process propagated from the end of the history.
+
+Forecasts never call statsmodels: the final predicted state, its covariance and the system
+matrices (:class:`loadcore.model.statespace.EndState`) are propagated by the Kalman prediction
+equations a_{h+1} = T a_h, P_{h+1} = T P_h T' + R Q R' (Durbin and Koopman, 2012, section 4.3),
+and error paths are simulated from the same matrices. That is why a loaded model forecasts bit
+for bit like the fitted one.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from .. import levels as interval_levels
+from .. import texts, units
+from .statespace import EndState
+
+#: Thin-data flag of scenario temperatures (see loadcore.texts).
+SPARSE_MIN_DAYS = texts.SPARSE_MIN_DAYS
+SPARSE_HALF_WIDTH_C = texts.SPARSE_HALF_WIDTH_C
+
+
+@dataclass(frozen=True)
+class Forecast:
+    """A scenario forecast.
+
+    ``frame`` has one row per day: ``date``, ``temperature_c``, ``day_type``, ``mean`` (bias
+    adjusted, exp(mu + sigma^2/2) for a log model), ``median`` (exp(mu)), ``lower_L`` and
+    ``upper_L`` for every level L, ``out_of_range`` (bool), ``out_of_range_by_c`` (°C beyond the
+    fitted range, 0 inside) and ``sparse_temperature`` (inside the range, thinly observed).
+    """
+
+    frame: pd.DataFrame
+    levels: tuple[float, ...]
+    scenario_name: str
+    demand_unit: str
+    temperature_range_c: tuple[float, float]
+    note: str
+
+    def warnings(self, temp_unit: units.Unit = "C") -> list[str]:
+        """Plain messages for every day outside the fitted temperature range or thinly observed,
+        with temperatures in ``temp_unit``."""
+        return texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
+
+
+def noise_moments(state: EndState, horizon: int) -> tuple[np.ndarray, np.ndarray]:
+    """Mean and variance of the error process on each of the next ``horizon`` days."""
+    a, P = state.mean.copy(), state.covariance.copy()
+    T, Z, R = state.transition, state.observation, state.selection
+    H = state.observation_variance
+    RQR = R @ state.shock_covariance @ R.T
+    mean = np.empty(horizon)
+    var = np.empty(horizon)
+    for h in range(horizon):
+        mean[h] = (Z @ a).item()
+        var[h] = (Z @ P @ Z.T + H).item()
+        a = T @ a
+        P = T @ P @ T.T + RQR
+    return mean, var
+
+
+def simulate_noise(state: EndState, horizon: int, n_paths: int, seed: int | None) -> np.ndarray:
+    """Error paths from the end of the history, shape (n_paths, horizon), model scale."""
+    rng = np.random.default_rng(seed)
+    T, Z, R = state.transition, state.observation, state.selection
+    k = len(state.mean)
+    vals, vecs = np.linalg.eigh((state.covariance + state.covariance.T) / 2)
+    L = vecs * np.sqrt(np.clip(vals, 0, None))
+    a = state.mean[:, None] + L @ rng.standard_normal((k, n_paths))
+    qv, qe = np.linalg.eigh(state.shock_covariance)
+    LQ = R @ (qe * np.sqrt(np.clip(qv, 0, None)))
+    h_sd = math.sqrt(max(float(state.observation_variance[0, 0]), 0.0))
+    out = np.empty((n_paths, horizon))
+    for h in range(horizon):
+        out[:, h] = (Z @ a)[0]
+        if h_sd:
+            out[:, h] += h_sd * rng.standard_normal(n_paths)
+        a = T @ a + LQ @ rng.standard_normal((LQ.shape[1], n_paths))
+    return out
+
+
+def forecast_frame(
+    *,
+    dates: pd.DatetimeIndex,
+    temperature_c: np.ndarray,
+    day_types: np.ndarray,
+    linear: np.ndarray,
+    noise_mean: np.ndarray,
+    noise_var: np.ndarray,
+    use_log: bool,
+    levels: Sequence[float],
+    history_temperature_c: np.ndarray,
+) -> pd.DataFrame:
+    """The forecast table: mean, median and intervals from the normal predictive distribution
+    on the model scale (lognormal on the demand scale for a log model; Aitchison and Brown,
+    1957), and the range flags against the fitted history's temperatures."""
+    mu = linear + noise_mean
+    sd = np.sqrt(noise_var)
+
+    def to_demand(values: np.ndarray) -> np.ndarray:
+        return np.exp(values) if use_log else np.asarray(values, float)
+
+    out = {"date": dates, "temperature_c": temperature_c, "day_type": day_types.astype(str)}
+    if use_log:
+        out["mean"] = np.exp(mu + noise_var / 2.0)  # lognormal mean
+        out["median"] = np.exp(mu)
+    else:
+        out["mean"] = mu
+        out["median"] = mu
+    for L in levels:
+        z = interval_levels.z_value(L)
+        out[interval_levels.lower_column(L)] = to_demand(mu - z * sd)
+        out[interval_levels.upper_column(L)] = to_demand(mu + z * sd)
+    temps = temperature_c
+    tmin, tmax = float(np.nanmin(history_temperature_c)), float(np.nanmax(history_temperature_c))
+    by = np.where(temps > tmax, temps - tmax, np.where(temps < tmin, tmin - temps, 0.0))
+    out["out_of_range"] = by > 0
+    out["out_of_range_by_c"] = np.round(by, 6)
+    hist_t = np.sort(np.asarray(history_temperature_c, float))
+    near = np.searchsorted(hist_t, temps + SPARSE_HALF_WIDTH_C, side="right") - np.searchsorted(
+        hist_t, temps - SPARSE_HALF_WIDTH_C, side="left"
+    )
+    out["sparse_temperature"] = (by == 0) & (near < SPARSE_MIN_DAYS)
+    return pd.DataFrame(out)

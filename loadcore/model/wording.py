@@ -1,0 +1,192 @@
+"""Planner wording of a fitted model: the error model in words, term labels, what each
+coefficient means, and the temperature of lowest demand, in °C or °F through loadcore.units."""
+
+from __future__ import annotations
+
+import math
+
+from .. import units
+from ..calendar import day_type_label
+from .orders import SHOCK_VARIANCE, WEEKLY_PERIOD, Orders, error_term, weeks_in_words
+from .terms import TermSpec
+
+_FIXED_LABELS = {
+    "const": "level",
+    "trend_years": "growth (per year)",
+    "temp": "temperature, linear term",
+    "temp_sq": "temperature, squared term",
+    "hdd": "heating degrees",
+    "cdd": "cooling degrees",
+    SHOCK_VARIANCE: "shock variance",
+}
+
+
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}{'s' if n > 1 else ''}"
+
+
+def describe_errors(orders: Orders) -> str:
+    """The error model in plain words, after its orders in our layout."""
+    o = orders
+    parts = []
+    if o.p:
+        parts.append(
+            "today's deviation from the weather-and-calendar level carries over "
+            f"from the last {_plural(o.p, 'day')}"
+        )
+    if o.q:
+        parts.append(f"a shock echoes for {_plural(o.q, 'day')}")
+    if o.P:
+        parts.append(f"and from the same weekday in the last {_plural(o.P, 'week')}")
+    if o.Q:
+        parts.append(f"a shock echoes on the same weekday for {_plural(o.Q, 'week')}")
+    if o.d:
+        parts.append(
+            "the level wanders (differenced once)"
+            if o.d == 1
+            else f"the level wanders (differenced {o.d} times)"
+        )
+    if o.D:
+        parts.append("the weekly pattern shifts over time (weekly differencing)")
+    if not parts:
+        parts.append("day-to-day deviations are independent")
+    return f"Error model: {o.describe()}. In words: " + "; ".join(parts) + "."
+
+
+def term_label(name: str, period: int = WEEKLY_PERIOD) -> str:
+    """The label of a parameter in the coefficient table (no unit in it)."""
+    if name in _FIXED_LABELS:
+        return _FIXED_LABELS[name]
+    if name.startswith("type_"):
+        return f"day type: {day_type_label(name[5:])}"
+    if name.startswith("annual_"):
+        return f"annual {'cosine' if 'cos' in name else 'sine'} {name[-1]}"
+    term = error_term(name)
+    if term is not None:
+        kind, k = term
+        return {
+            "ar": f"error AR, lag {k}",
+            "ma": f"error MA, lag {k}",
+            "weekly_ar": f"error weekly AR, lag {k * period}",
+            "weekly_ma": f"error weekly MA, lag {k * period}",
+        }[kind]
+    return name
+
+
+def coefficient_meaning(
+    name: str,
+    estimate: float,
+    *,
+    terms: TermSpec,
+    log: bool,
+    demand_unit: str,
+    base_type: str,
+    temp_unit: units.Unit = "C",
+) -> str:
+    """What one estimated parameter means, in plain words.
+
+    Temperatures and per-degree effects are worded in ``temp_unit``; a log model's effects in
+    per cent (100 (exp(b) - 1)), a demand model's in ``demand_unit``.
+    """
+    b = estimate
+    base = day_type_label(base_type)
+    deg = f"°{temp_unit}"
+    per = units.delta_to_unit(1.0, temp_unit)  # degrees of temp_unit in one °C step
+
+    def temp(value_c: float) -> str:
+        return f"{units.to_unit(value_c, temp_unit):g} {deg}"
+
+    def effect(what: str, coef: float = b) -> str:
+        if log:
+            pct = 100.0 * (math.exp(coef) - 1.0)
+            verb = "raises" if pct >= 0 else "lowers"
+            return f"{what} {verb} demand by {abs(pct):.1f} %"
+        verb = "raises" if coef >= 0 else "lowers"
+        return f"{what} {verb} demand by {abs(coef):,.1f} {demand_unit}"
+
+    if name == "const":
+        lvl = math.exp(b) if log else b
+        where = (
+            f"at {temp(terms.reference_temp_c)}"
+            if terms.response == "quadratic"
+            else f"between {temp(terms.heating_base_c)} and {temp(terms.cooling_base_c)}"
+        )
+        return f"demand on a {base} {where} at the start of the history: {lvl:,.0f} {demand_unit}"
+    if name == "trend_years":
+        return effect("each year of growth") + " (apart from weather and calendar)"
+    if name == "temp":
+        slope = b / 10.0 / per
+        s = f"{100 * slope:+.2f} % per {deg}" if log else f"{slope:+,.1f} {demand_unit} per {deg}"
+        return f"slope of the temperature response at {temp(terms.reference_temp_c)}: {s}"
+    if name == "temp_sq":
+        c = 2 * b / 100.0 / per**2
+        s = f"{100 * c:+.3f} % per {deg}" if log else f"{c:+,.2f} {demand_unit} per {deg}"
+        return (
+            f"curvature: the slope changes by {s} for every {deg} away from "
+            f"{temp(terms.reference_temp_c)}"
+        )
+    if name == "hdd":
+        return effect(f"each {deg} below {temp(terms.heating_base_c)}", b / per)
+    if name == "cdd":
+        return effect(f"each {deg} above {temp(terms.cooling_base_c)}", b / per)
+    if name.startswith("type_"):
+        return effect(f"a {day_type_label(name[len('type_') :])}") + f" compared with a {base}"
+    if name.startswith("annual_"):
+        part = "cosine" if "cos" in name else "sine"
+        return f"annual cycle beyond temperature, harmonic {name[-1]} ({part} part)"
+    if name == SHOCK_VARIANCE:
+        sd = math.sqrt(max(b, 0.0))
+        if log:
+            return f"variance of the daily shocks (typical shock about {100 * sd:.1f} %)"
+        return f"variance of the daily shocks (typical shock about {sd:,.1f} {demand_unit})"
+    term = error_term(name)
+    if term is None:
+        return ""
+    kind, k = term
+    if kind == "weekly_ar":
+        return (
+            "how much of a deviation carries over from the same weekday "
+            f"{weeks_in_words(k)} earlier"
+        )
+    if kind == "weekly_ma":
+        return f"how much of a shock echoes on the same weekday {weeks_in_words(k)} later"
+    if kind == "ar":
+        return f"how much of a deviation carries over from {k} day(s) earlier"
+    return f"how much of a shock echoes {k} day(s) later"
+
+
+def lowest_demand_temperature_c(terms: TermSpec, coefficients: dict[str, float]) -> float | None:
+    """Temperature of lowest demand, °C, or None when the response has no minimum.
+
+    For the quadratic response, the vertex reference - 5 b1 / b2 (b1, b2 per 10 °C); for
+    degree days, the middle of the flat band between the two bases.
+    """
+    if terms.response == "quadratic":
+        b1, b2 = coefficients["temp"], coefficients["temp_sq"]
+        if b2 <= 0:
+            return None
+        return float(terms.reference_temp_c - 5.0 * b1 / b2)
+    return float((terms.heating_base_c + terms.cooling_base_c) / 2.0)
+
+
+def describe_lowest_demand(
+    terms: TermSpec,
+    lowest_c: float | None,
+    temperature_range_c: tuple[float, float],
+    temp_unit: units.Unit = "C",
+) -> str:
+    """The temperature of lowest demand in words, in °C or °F."""
+    lo, hi = temperature_range_c
+
+    def temp(value_c: float) -> str:
+        return f"{units.to_unit(value_c, temp_unit):.1f} °{temp_unit}"
+
+    if terms.response == "degree_days":
+        return (
+            f"Demand is lowest in the flat band between {temp(terms.heating_base_c)} and "
+            f"{temp(terms.cooling_base_c)}."
+        )
+    if lowest_c is None:
+        return "The fitted response has no minimum (it is not U-shaped); check the data."
+    where = "" if lo <= lowest_c <= hi else " (outside the fitted range: treat with care)"
+    return f"Demand is lowest at about {temp(lowest_c)}{where}."

@@ -1,0 +1,44 @@
+"""Scenarios: future dates, a temperature path and (optionally) day types.
+
+- :mod:`~loadcore.scenario.core`: :class:`Scenario`, validated once by its constructor, and
+  :func:`make_scenario` (a path and day types to a Scenario);
+- :mod:`~loadcore.scenario.values`: the rules a scenario must meet (one place each), among them
+  :data:`MAX_DAYS`, the one length limit of scenarios and forecasts;
+- :mod:`~loadcore.scenario.paths`: the path builders;
+- :mod:`~loadcore.scenario.definition`: the JSON scenario definition;
+- :mod:`~loadcore.scenario.csv_files`: scenario CSV files (°F only at this edge).
+"""
+
+from .core import Scenario, make_scenario
+from .csv_files import read_scenario_csv, write_scenario_csv
+from .definition import DEFINITION_KIND, DEFINITION_VERSION
+from .paths import (
+    NORMAL_WINDOW_HALF_DAYS,
+    cold_snap,
+    constant_path,
+    copy_period,
+    heat_wave,
+    seasonal_normal_path,
+    shift_path,
+)
+from .values import MAX_DAYS, PLAUSIBLE_MAX_C, PLAUSIBLE_MIN_C, fill_blank_day_types
+
+__all__ = [
+    "DEFINITION_KIND",
+    "DEFINITION_VERSION",
+    "MAX_DAYS",
+    "NORMAL_WINDOW_HALF_DAYS",
+    "PLAUSIBLE_MAX_C",
+    "PLAUSIBLE_MIN_C",
+    "Scenario",
+    "cold_snap",
+    "constant_path",
+    "copy_period",
+    "fill_blank_day_types",
+    "heat_wave",
+    "make_scenario",
+    "read_scenario_csv",
+    "seasonal_normal_path",
+    "shift_path",
+    "write_scenario_csv",
+]
