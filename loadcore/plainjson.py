@@ -86,9 +86,15 @@ def to_plain(value: Any, *, nonfinite: Literal["null", "error"] = "null", where:
     return plain(value)
 
 
-def dumps(value: Any, *, nonfinite: Literal["null", "error"] = "null", **kwargs: Any) -> str:
-    """``json.dumps(to_plain(value))``, never writing NaN or Infinity."""
-    return json.dumps(to_plain(value, nonfinite=nonfinite), allow_nan=False, **kwargs)
+def dumps(
+    value: Any, *, nonfinite: Literal["null", "error"] = "null", where: str = "", **kwargs: Any
+) -> str:
+    """``json.dumps(to_plain(value))``, never writing NaN or Infinity.
+
+    ``nonfinite`` and ``where`` are passed to :func:`to_plain`; other keywords to ``json.dumps``.
+    """
+    plain = to_plain(value, nonfinite=nonfinite, where=where)
+    return json.dumps(plain, allow_nan=False, **kwargs)
 
 
 def _depth_ok(text: str, limit: int) -> bool:
