@@ -1,8 +1,11 @@
-"""Plotly figures for the planner app.
+"""Plotly figures for the planner app's pages (history, response, paths, fans, bars, lines).
 
 Each function takes loadcore results (already computed) and returns a ``plotly.graph_objects.Figure``;
-nothing here computes a statistic. Temperatures arrive in °C and are converted for display with the
-``to_unit`` callable the page passes (identity for °C).
+nothing here computes a statistic. Colours and the chart style are loadcore's
+(:mod:`loadcore.export.palette`, :func:`loadcore.export.style_figure`); the scenario comparison is
+:func:`loadcore.export.comparison_figure`, the same figure the meeting brief embeds. Temperatures
+arrive in °C and are converted for display with the ``to_unit`` callable the page passes (identity
+for °C).
 """
 
 from __future__ import annotations
@@ -14,33 +17,14 @@ import pandas as pd
 import plotly.graph_objects as go
 from plotly.subplots import make_subplots
 
-from app import palette
 from loadcore.calendar import day_type_label
-from loadcore.levels import lower_column, upper_column
+from loadcore.export import palette, style_figure
 
 Convert = Callable[[np.ndarray], np.ndarray]
 
 
 def _identity(values):
     return values
-
-
-def _style(fig: go.Figure, *, height: int, font_size: int = 14, legend_top: bool = True) -> None:
-    big = font_size > 16
-    fig.update_layout(
-        height=height,
-        margin={"l": 110 if big else 70, "r": 40, "t": 40, "b": 90 if big else 50},
-        paper_bgcolor=palette.PAPER,
-        plot_bgcolor="white",
-        font={"family": palette.FONT_FAMILY, "size": font_size, "color": palette.INK},
-        hovermode="x unified",
-    )
-    if legend_top:
-        fig.update_layout(
-            legend={"orientation": "h", "yanchor": "bottom", "y": 1.02, "xanchor": "left", "x": 0}
-        )
-    fig.update_xaxes(gridcolor=palette.GRID, zeroline=False, automargin=True)
-    fig.update_yaxes(gridcolor=palette.GRID, zeroline=False, automargin=True)
 
 
 def _ordered_types(types: pd.Series) -> list[str]:
@@ -118,7 +102,7 @@ def history_figure(
     )
     fig.update_yaxes(title_text="demand, MW", row=1, col=1)
     fig.update_yaxes(title_text=f"temperature, {unit}", row=2, col=1)
-    _style(fig, height=560)
+    style_figure(fig, height=560)
     return fig
 
 
@@ -171,7 +155,7 @@ def response_figure(
         )
     fig.update_xaxes(title_text=f"daily maximum temperature, {unit}")
     fig.update_yaxes(title_text="demand, MW")
-    _style(fig, height=460)
+    style_figure(fig, height=460)
     fig.update_layout(hovermode="closest")
     return fig
 
@@ -224,92 +208,7 @@ def path_figure(
             )
         )
     fig.update_yaxes(title_text=f"daily maximum temperature, {unit}")
-    _style(fig, height=320)
-    return fig
-
-
-def comparison_figure(
-    history_tail: pd.Series,
-    forecasts: Sequence,
-    *,
-    levels: Sequence[float] = (80, 95),
-    meeting: bool = False,
-) -> go.Figure:
-    """The tail of the history with each scenario's mean and its interval bands.
-
-    Parameters
-    ----------
-    history_tail : pd.Series
-        Demand in MW on the last days of the history (daily index).
-    forecasts : sequence of Forecast
-        loadcore forecasts; ``frame`` has ``date``, ``mean``, ``lower_L``/``upper_L`` and
-        ``out_of_range``.
-    meeting : bool
-        Large fonts and a tall chart for a projector.
-    """
-    fig = go.Figure()
-    fig.add_trace(
-        go.Scatter(
-            x=history_tail.index,
-            y=history_tail.to_numpy(),
-            mode="lines",
-            line={"color": palette.HISTORY, "width": 2},
-            name="history",
-            hovertemplate="%{y:,.0f} MW<extra>history</extra>",
-        )
-    )
-    alphas = {level: a for level, a in zip(sorted(levels), (0.30, 0.14, 0.08), strict=False)}
-    for i, fc in enumerate(forecasts):
-        colour = palette.scenario_colour(i)
-        frame = fc.frame
-        dates = pd.DatetimeIndex(frame["date"])
-        group = f"scenario-{i}"
-        for level in sorted(levels, reverse=True):
-            lower = frame[lower_column(level)].to_numpy()
-            upper = frame[upper_column(level)].to_numpy()
-            fig.add_trace(
-                go.Scatter(
-                    x=np.concatenate([dates, dates[::-1]]),
-                    y=np.concatenate([upper, lower[::-1]]),
-                    fill="toself",
-                    fillcolor=palette.band_fill(colour, alphas.get(level, 0.1)),
-                    line={"width": 0},
-                    hoverinfo="skip",
-                    name=f"{fc.scenario_name}: {level}% interval",
-                    legendgroup=group,
-                    showlegend=not meeting,
-                )
-            )
-        fig.add_trace(
-            go.Scatter(
-                x=dates,
-                y=frame["mean"].to_numpy(),
-                mode="lines",
-                line={"color": colour, "width": 3 if meeting else 2},
-                name=f"{fc.scenario_name}: mean",
-                legendgroup=group,
-                hovertemplate="%{y:,.0f} MW<extra>" + fc.scenario_name + "</extra>",
-            )
-        )
-        outside = frame["out_of_range"].astype(bool).to_numpy()
-        if outside.any():
-            fig.add_trace(
-                go.Scatter(
-                    x=dates[outside],
-                    y=frame["mean"].to_numpy()[outside],
-                    mode="markers",
-                    marker={
-                        "color": palette.OUTSIDE,
-                        "size": 14 if meeting else 10,
-                        "symbol": palette.OUTSIDE_SYMBOL,
-                        "line": {"color": "white", "width": 1},
-                    },
-                    name=f"{fc.scenario_name}: outside fitted range",
-                    legendgroup=group,
-                )
-            )
-    fig.update_yaxes(title_text="daily peak demand, MW")
-    _style(fig, height=720 if meeting else 480, font_size=22 if meeting else 14)
+    style_figure(fig, height=320)
     return fig
 
 
@@ -361,7 +260,7 @@ def fan_figure(
             annotation_position="top left",
         )
     fig.update_yaxes(title_text="daily peak demand, MW")
-    _style(fig, height=440)
+    style_figure(fig, height=440)
     return fig
 
 
@@ -393,7 +292,7 @@ def bars_figure(
     _guide_lines(fig, hlines, colour=palette.OUTSIDE, dash="dash", position="top right")
     fig.update_xaxes(title_text=x_title)
     fig.update_yaxes(title_text=y_title)
-    _style(fig, height=height, legend_top=False)
+    style_figure(fig, height=height, legend_top=False)
     fig.update_layout(hovermode="closest")
     return fig
 
@@ -417,7 +316,7 @@ def histogram_figure(
     )
     fig.update_xaxes(title_text=x_title)
     fig.update_yaxes(title_text=y_title)
-    _style(fig, height=height, legend_top=False)
+    style_figure(fig, height=height, legend_top=False)
     fig.update_layout(hovermode="closest", bargap=0.04)
     return fig
 
@@ -447,5 +346,5 @@ def lines_figure(
     _guide_lines(fig, hlines, colour=palette.MUTED, dash="dot", position="top left")
     fig.update_xaxes(title_text=x_title)
     fig.update_yaxes(title_text=y_title)
-    _style(fig, height=height)
+    style_figure(fig, height=height)
     return fig

@@ -4,31 +4,9 @@ Run with ``loadcore app`` (or ``python -m streamlit run app/main.py``). The page
 flow: history -> model -> build a scenario -> compare, then weather ensembles, backtests and the saved
 scenarios. Every number shown comes from a loadcore call; the app only gathers inputs and draws.
 
-Session-state keys (the only ones shared between pages; see app/state.py for the names):
-
-``history``
-    ``loadcore.history.History`` in use (the demo history until the user uploads a valid file).
-``history_source``
-    Text naming where the history came from (shown on the pages).
-``calendar_spec``
-    ``loadcore.calendar.CalendarSpec`` used for day types (country, subdivision, scheme, overrides).
-``fit_settings``
-    ``loadcore.model.FitSettings`` of the last fit (or the defaults).
-``model``
-    ``loadcore.model.FittedModel`` or None. The pre-fitted demo model when demo_data/demo_model.json
-    exists and was fitted on the demo history.
-``scenarios``
-    dict, scenario name -> ``loadcore.scenario.Scenario``, in the order they were added.
-``forecasts``
-    dict, scenario name -> ``loadcore.model.Forecast`` for the current model (recomputed, cached).
-``temp_unit``
-    ``"C"`` or ``"F"``: the unit for every temperature typed or shown (°C inside).
-``meeting_view``
-    bool: the Compare page in its large, control-free form for meetings.
-``ensemble`` / ``backtest``
-    The last weather-ensemble and backtest results (with the inputs they were made from).
-
-Every page writes a key only after the loadcore call producing the new value succeeded.
+The session-state keys and every transition between states are documented and owned by
+``app/state.py``; pages read the session through it and change it only by calling its transition
+functions.
 """
 
 from __future__ import annotations
@@ -44,6 +22,7 @@ if str(_REPO) not in sys.path:
 import streamlit as st  # noqa: E402
 
 from app import state  # noqa: E402
+from loadcore import texts  # noqa: E402
 
 logger = logging.getLogger("loadcore.app")
 
@@ -75,18 +54,21 @@ page = st.navigation(PAGES)
 
 with st.sidebar:
     st.markdown("**loadcore planner**")
-    st.caption(f"History: {st.session_state[state.HISTORY_SOURCE]}")
+    st.caption(f"History: {state.history_source()}")
+    state.sync_sidebar_widgets()
     st.radio(
         "Temperatures in",
         options=["C", "F"],
         format_func=lambda unit: state.unit_symbol(unit),
-        key=state.TEMP_UNIT,
+        key=state.UNIT_WIDGET,
+        on_change=state.unit_chosen,
         horizontal=True,
         help="Every temperature you type or read uses this unit; loadcore works in °C inside.",
     )
     st.toggle(
         "Meeting view",
-        key=state.MEETING,
+        key=state.MEETING_WIDGET,
+        on_change=state.meeting_chosen,
         help="Shows the comparison large, with the controls hidden, for a projector.",
     )
     status = st.container()
@@ -104,13 +86,13 @@ def _status() -> None:
 
 
 COMPARE = PAGES["Plan"][3]
-if st.session_state[state.MEETING] and page.url_path != COMPARE.url_path:
+if state.meeting_view() and page.url_path != COMPARE.url_path:
     st.switch_page(COMPARE)
 
 try:
     page.run()
 except Exception:  # a fault in the code, not the user's input: say so, keep the details in the log
     logger.exception("the page %r failed", page.title)
-    st.error(state.INTERNAL_ERROR)
+    st.error(texts.INTERNAL_ERROR)
 finally:  # also when a page stops early (st.stop)
     _status()

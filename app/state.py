@@ -1,8 +1,39 @@
-"""Shared session state, cached loaders and small display helpers for every page.
+"""The session: its keys, every transition between its states, and small display helpers.
 
-The session-state keys are documented at the top of ``app/main.py``. Pages read and write them only
-through the names defined here, and write a key only after the loadcore call that produces the new
-value has succeeded, so a bad input never replaces a good history, model or scenario.
+This module owns ``st.session_state``. Pages read the session through the getters below and change
+it only through the transition functions (``use_history``, ``use_model``, ``put_scenario``...);
+they never write a session key of their own (their widgets' keys are theirs). A transition is
+called only after the loadcore call producing the new value has succeeded, so a bad input never
+replaces a good history, model or scenario.
+
+Session keys (the only ones shared between pages):
+
+``history``
+    ``loadcore.history.History`` in use (the demo history until the user uploads a valid file).
+``history_source``
+    Text naming where the history came from (shown on the pages).
+``calendar_spec``
+    ``loadcore.calendar.CalendarSpec`` for the next fit: public holidays and day-type scheme
+    (chosen on the Model page), special periods (History page). After a fit or an upload it is
+    the model's calendar.
+``fit_settings``
+    ``loadcore.model.FitSettings`` of the model in use (or the defaults).
+``model``
+    ``loadcore.model.FittedModel`` or None. The pre-fitted demo model when demo_data/demo_model.json
+    exists and was fitted on the demo history.
+``scenarios``
+    dict, scenario name -> ``loadcore.scenario.Scenario``, in the order they were added.
+``forecasts``
+    dict, scenario name -> ``loadcore.model.Forecast`` for the current model (recomputed, cached).
+``temp_unit``
+    ``"C"`` or ``"F"`` (a ``loadcore.units.Unit``): the unit for every temperature typed or shown
+    (°C inside). Set through :func:`set_temp_unit`, bound to the sidebar's ``unit_choice`` radio.
+``meeting_view``
+    bool: the Compare page in its large, control-free form for meetings. Set through
+    :func:`set_meeting_view`, bound to the sidebar's ``meeting_choice`` toggle.
+``ensemble`` / ``backtest``
+    The last weather-ensemble and backtest results with the key of the inputs they were made
+    from (:func:`keep_ensemble`, :func:`keep_backtest`).
 """
 
 from __future__ import annotations
@@ -10,7 +41,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from pathlib import Path
 from typing import Any
 
@@ -18,7 +49,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from loadcore import units
+from loadcore import texts, units
 from loadcore.calendar import CalendarSpec
 from loadcore.errors import HistoryError, LoadcoreError
 
@@ -27,7 +58,7 @@ DEMO_HISTORY = REPO_ROOT / "demo_data" / "history.csv"
 DEMO_MODEL = REPO_ROOT / "demo_data" / "demo_model.json"
 HISTORY_ENV = "LOADCORE_HISTORY"
 
-# Session-state keys (see app/main.py for what each holds).
+# Session-state keys (documented above).
 HISTORY = "history"
 HISTORY_SOURCE = "history_source"
 CALENDAR = "calendar_spec"
@@ -40,25 +71,13 @@ MEETING = "meeting_view"
 ENSEMBLE = "ensemble"
 BACKTEST = "backtest"
 
+# Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
+UNIT_WIDGET = "unit_choice"
+MEETING_WIDGET = "meeting_choice"
+
 LEVELS = (80, 95)
 
-# The team's threshold for the public-safety note on hot scenarios (common practice, no source:
-# daily highs of 38 °C and above are where heat-health warnings are usually issued).
-HEAT_HEALTH_C = 38.0
-
-CAUTION = (
-    "loadcore is a planning aid, not an operating or reliability-compliance tool. Defer to the "
-    "system operator's procedures, local reliability standards and licensed engineering judgement."
-)
-INTERNAL_ERROR = (
-    "Something went wrong on this page. That is a fault in loadcore, not in your input; your "
-    "history, model and scenarios are unchanged. Please report it (the server log has the details)."
-)
-HEAT_NOTE = (
-    "Public safety: this scenario has days at or above {limit} with highs up to {peak}. Heat of this "
-    "kind brings a risk of heat-related illness; check the operator's emergency procedures and the "
-    "local heat-health plan."
-)
+DEMO_SOURCE = "demo data (Calder Basin Power & Light)"
 
 
 # --------------------------------------------------------------------------------------------
@@ -102,9 +121,6 @@ def file_history(path: str):
     return read_history(path)
 
 
-DEMO_SOURCE = "demo data (Calder Basin Power & Light)"
-
-
 def init_state() -> None:
     """Fill in the session's defaults: the demo history (or the file from ``loadcore app
     --history``), its calendar, and the pre-fitted demo model when it matches."""
@@ -144,9 +160,24 @@ def init_state() -> None:
     state.setdefault(MEETING, False)
 
 
+# --------------------------------------------------------------------------------------------
+# Reading the session
+# --------------------------------------------------------------------------------------------
+
+
 def history():
     """The session's current History."""
     return st.session_state[HISTORY]
+
+
+def history_source() -> str:
+    """Where the history in use came from, in words."""
+    return str(st.session_state.get(HISTORY_SOURCE, DEMO_SOURCE))
+
+
+def using_demo_data() -> bool:
+    """True while the history in use is the demo data."""
+    return history_source() == DEMO_SOURCE
 
 
 def model():
@@ -154,9 +185,151 @@ def model():
     return st.session_state.get(MODEL)
 
 
+def fit_settings():
+    """The FitSettings of the model in use (or the defaults)."""
+    return st.session_state[FIT_SETTINGS]
+
+
+def calendar() -> CalendarSpec:
+    """The calendar the next fit will use (holidays, scheme, special periods)."""
+    return st.session_state[CALENDAR]
+
+
+def calendar_in_use() -> CalendarSpec:
+    """The calendar that gives the day types shown: the model's when a model is in use (that
+    is what its forecasts use), else the session's calendar for the next fit."""
+    fitted = model()
+    return fitted.settings.calendar if fitted is not None else calendar()
+
+
 def scenarios() -> dict:
-    """The session's scenario set, name -> Scenario (insertion order is the display order)."""
-    return st.session_state[SCENARIOS]
+    """The session's scenario set, name -> Scenario (insertion order is the display order).
+
+    A read-only view for pages: change the set with :func:`put_scenario` and
+    :func:`remove_scenarios`.
+    """
+    return dict(st.session_state[SCENARIOS])
+
+
+def temp_unit() -> units.Unit:
+    """``"C"`` or ``"F"``: the unit the user reads and types temperatures in."""
+    return st.session_state.get(TEMP_UNIT, "C")
+
+
+def meeting_view() -> bool:
+    """True while the Compare page is shown in its meeting form."""
+    return bool(st.session_state.get(MEETING, False))
+
+
+# --------------------------------------------------------------------------------------------
+# Transitions: the only writers of the session keys
+# --------------------------------------------------------------------------------------------
+
+
+def use_history(new, source: str) -> None:
+    """Use the History ``new`` (read successfully from ``source``, shown in words)."""
+    st.session_state[HISTORY] = new
+    st.session_state[HISTORY_SOURCE] = str(source)
+
+
+def use_demo_history() -> None:
+    """Go back to the demo history."""
+    use_history(demo_history(), DEMO_SOURCE)
+
+
+def use_calendar(spec: CalendarSpec) -> None:
+    """Use ``spec`` for the next fit (the model in use keeps its own calendar)."""
+    if not isinstance(spec, CalendarSpec):
+        raise TypeError(f"expected a CalendarSpec, got {type(spec).__name__}")
+    st.session_state[CALENDAR] = spec
+
+
+def use_model(fitted, *, source: str | None = None) -> None:
+    """Use a fitted or uploaded model: its settings and calendar become the session's.
+
+    Parameters
+    ----------
+    fitted : loadcore.model.FittedModel
+        The model.
+    source : str, optional
+        For an uploaded model, the file name. When the model was fitted on another history
+        than the one in use, its own (embedded) history is used from then on.
+    """
+    st.session_state[MODEL] = fitted
+    st.session_state[FIT_SETTINGS] = fitted.settings
+    st.session_state[CALENDAR] = fitted.settings.calendar
+    if source is not None and fitted.history.fingerprint != history().fingerprint:
+        use_history(fitted.history, f"the history saved in {source}")
+
+
+def put_scenario(scenario) -> bool:
+    """Add ``scenario`` to the set, or replace the one of the same name; True if it replaced."""
+    current = dict(st.session_state[SCENARIOS])
+    replaced = scenario.name in current
+    current[scenario.name] = scenario
+    st.session_state[SCENARIOS] = current
+    return replaced
+
+
+def remove_scenarios(names: Iterable[str]) -> None:
+    """Remove the named scenarios from the set (unknown names are ignored)."""
+    drop = set(names)
+    st.session_state[SCENARIOS] = {
+        name: scenario for name, scenario in st.session_state[SCENARIOS].items() if name not in drop
+    }
+
+
+def set_temp_unit(unit: Any) -> None:
+    """Show and read temperatures in ``unit`` (parsed by loadcore.units: "C" or "F")."""
+    st.session_state[TEMP_UNIT] = units.parse_unit(unit)
+
+
+def set_meeting_view(on: bool) -> None:
+    """Turn the meeting view on or off."""
+    st.session_state[MEETING] = bool(on)
+
+
+def sync_sidebar_widgets() -> None:
+    """Show the session's unit and meeting view in the sidebar widgets (before they are drawn),
+    so a change made elsewhere (the Compare page's "Leave the meeting view") shows there too."""
+    st.session_state[UNIT_WIDGET] = temp_unit()
+    st.session_state[MEETING_WIDGET] = meeting_view()
+
+
+def unit_chosen() -> None:
+    """Callback of the sidebar's unit radio."""
+    set_temp_unit(st.session_state[UNIT_WIDGET])
+
+
+def meeting_chosen() -> None:
+    """Callback of the sidebar's meeting-view toggle."""
+    set_meeting_view(st.session_state[MEETING_WIDGET])
+
+
+def keep_ensemble(fitted, result) -> None:
+    """Keep a weather-ensemble result made with ``fitted``."""
+    st.session_state[ENSEMBLE] = {"model": model_key(fitted), "result": result}
+
+
+def kept_ensemble(fitted):
+    """The kept ensemble result when it was made with ``fitted``, else None."""
+    kept = st.session_state.get(ENSEMBLE)
+    return kept["result"] if kept and kept["model"] == model_key(fitted) else None
+
+
+def _backtest_key(hist, settings) -> tuple[str, str]:
+    return (hist.fingerprint, repr(settings))
+
+
+def keep_backtest(hist, settings, result) -> None:
+    """Keep a backtest result made on ``hist`` with ``settings``."""
+    st.session_state[BACKTEST] = {"key": _backtest_key(hist, settings), "result": result}
+
+
+def kept_backtest(hist, settings):
+    """The kept backtest result when it was made on ``hist`` with ``settings``, else None."""
+    kept = st.session_state.get(BACKTEST)
+    return kept["result"] if kept and kept["key"] == _backtest_key(hist, settings) else None
 
 
 # --------------------------------------------------------------------------------------------
@@ -176,15 +349,15 @@ def _fitted_store() -> dict:
     return {}
 
 
-def fit_model(history, settings, progress=None):
+def fit_model(hist, settings, progress=None):
     """``loadcore.model.fit(history, settings, progress)``, reused for the same data and settings."""
     from loadcore.model import fit
 
     store = _fitted_store()
-    key = (history.fingerprint, settings.key())
+    key = (hist.fingerprint, settings.key())
     if key in store:
         return store[key]
-    fitted = fit(history, settings, progress=progress)
+    fitted = fit(hist, settings, progress=progress)
     store[key] = fitted
     while len(store) > FITS_KEPT:
         store.pop(next(iter(store)))
@@ -237,18 +410,13 @@ def forecasts_for_set(fitted) -> dict:
 
 
 # --------------------------------------------------------------------------------------------
-# Temperature units (°C inside, °F only at the edges)
+# Temperature units (°C inside, °F only at the edges; loadcore.units converts and formats)
 # --------------------------------------------------------------------------------------------
 
 
-def temp_unit() -> str:
-    """``"C"`` or ``"F"``: the unit the user reads and types temperatures in."""
-    return st.session_state.get(TEMP_UNIT, "C")
-
-
-def unit_symbol(unit: str | None = None) -> str:
+def unit_symbol(unit: units.Unit | None = None) -> str:
     """``"°C"`` or ``"°F"``."""
-    return "°F" if (unit or temp_unit()) == "F" else "°C"
+    return units.symbol(unit or temp_unit())
 
 
 def to_display(values_c):
@@ -273,16 +441,16 @@ def delta_from_display(delta: float) -> float:
 
 def fmt_temp(value_c: float, digits: int = 1) -> str:
     """A temperature in °C as display text, e.g. ``"41.0 °C"`` or ``"105.8 °F"``."""
-    return f"{float(to_display(value_c)):.{digits}f} {unit_symbol()}"
+    return units.format_temp(value_c, temp_unit(), digits)
 
 
 def fmt_delta(delta_c: float, digits: int = 1) -> str:
     """A temperature difference in °C as display text."""
-    return f"{delta_to_display(delta_c):.{digits}f} {unit_symbol()}"
+    return units.format_delta(delta_c, temp_unit(), digits)
 
 
 # --------------------------------------------------------------------------------------------
-# Messages
+# Messages (their wording is loadcore.texts')
 # --------------------------------------------------------------------------------------------
 
 
@@ -309,32 +477,29 @@ def attempt(call: Callable[[], Any], what: str | None = None) -> tuple[bool, Any
 
 
 def heat_note(scenario_name: str, temperature_c) -> None:
-    """The public-safety note for a scenario with days at or above HEAT_HEALTH_C."""
+    """The public-safety note (``loadcore.texts.heat_note``) for a scenario with days at or
+    above ``loadcore.texts.HEAT_HEALTH_C``."""
     temps = np.asarray(temperature_c, dtype=float)
-    if temps.size and np.nanmax(temps) >= HEAT_HEALTH_C:
-        text = HEAT_NOTE.format(limit=fmt_temp(HEAT_HEALTH_C, 0), peak=fmt_temp(np.nanmax(temps)))
+    if temps.size and np.nanmax(temps) >= texts.HEAT_HEALTH_C:
+        text = texts.heat_note(float(np.nanmax(temps)), temp_unit())
         st.warning(f"**{scenario_name}.** {text}", icon=":material/health_and_safety:")
 
 
 def out_of_range_lines(forecasts, range_c: tuple[float, float]) -> list[str]:
-    """One line per out-of-range day (``loadcore.export.out_of_range_days``): scenario, date,
-    temperature and how far outside the fitted range it lies."""
+    """One line per out-of-range day (``loadcore.export.out_of_range_days``, worded by
+    ``loadcore.texts.out_of_range_warning``): scenario, date, temperature, how far outside."""
     from loadcore.export import out_of_range_days
 
     unit = temp_unit()
-    table = out_of_range_days(list(forecasts), temp_unit=unit)
-    temp_col, by_col = units.temperature_column(unit), units.out_of_range_column(unit)
+    table = out_of_range_days(list(forecasts), temp_unit="C")
     low, high = (float(v) for v in range_c)
-    lines = []
-    for _, row in table.iterrows():
-        temp_c = float(units.from_unit(float(row[temp_col]), unit))
-        side = "above the hottest" if temp_c > high else "below the coldest"
-        lines.append(
-            f"{row['scenario']}, {pd.Timestamp(row['date']):%a %Y-%m-%d}: {float(row[temp_col]):.1f} "
-            f"{unit_symbol()}, {abs(float(row[by_col])):.1f} {unit_symbol()} {side} day the model "
-            "was fitted on"
+    return [
+        f"{row.scenario}, "
+        + texts.out_of_range_warning(
+            f"{pd.Timestamp(row.date):%a %Y-%m-%d}", float(row.temperature_c), low, high, unit
         )
-    return lines
+        for row in table.itertuples(index=False)
+    ]
 
 
 def need_model() -> Any:
@@ -349,9 +514,9 @@ def need_model() -> Any:
 
 
 def footer() -> None:
-    """The cautions shown at the foot of every page."""
+    """The caution shown at the foot of every page (``loadcore.texts.PLANNING_CAUTION``)."""
     st.divider()
-    st.caption(f":material/info: {CAUTION}")
+    st.caption(f":material/info: {texts.PLANNING_CAUTION}")
 
 
 def as_options(mapping: Mapping[str, str]) -> tuple[list[str], Callable[[str], str]]:

@@ -31,6 +31,7 @@ for _folder in (REPO, REPO / "benchmarks"):
 from common import benchmark_model  # noqa: E402
 
 from app import charts  # noqa: E402
+from loadcore.export import comparison_figure  # noqa: E402
 from loadcore.history import read_history  # noqa: E402
 from loadcore.model import fit  # noqa: E402
 from loadcore.scenario import heat_wave, make_scenario, seasonal_normal_path  # noqa: E402
@@ -60,7 +61,7 @@ def _redraw(model, path: pd.Series, day: int, value_c: float) -> int:
     tail = model.history.frame["demand"].iloc[-28:]
     figures = [
         charts.path_figure(scenario.dates, scenario.temperature_c, model.temperature_range_c),
-        charts.comparison_figure(tail, [forecast]),
+        comparison_figure([forecast], history_tail=tail),
     ]
     return sum(len(fig.to_json()) for fig in figures)
 

@@ -16,6 +16,8 @@ a crash never leaves a half-written file in place of a good one.
 
 from __future__ import annotations
 
+import math
+import numbers
 import os
 import stat
 import tempfile
@@ -57,14 +59,55 @@ def limit_bytes(limit_mb: float = DEFAULT_LIMIT_MB) -> int:
     return int(limit_mb * BYTES_PER_MB)
 
 
-def check_size(n_bytes: int, *, limit_mb: float = DEFAULT_LIMIT_MB, what: str = "file") -> None:
+def check_size(
+    n_bytes: int,
+    *,
+    limit_mb: float = DEFAULT_LIMIT_MB,
+    what: str = "file",
+    where: str | None = None,
+) -> None:
     """Refuse a file larger than the cap, before it is read."""
     if int(n_bytes) > limit_bytes(limit_mb):
         raise InputError(
             f"The {what} is {int(n_bytes) / BYTES_PER_MB:.1f} MB, more than the "
             f"{limit_mb:g} MB limit",
+            where=where,
             fix="Use daily data (one row per day) or cut the file to the years you need",
         )
+
+
+def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_LIMIT_MB) -> None:
+    """Refuse an upload larger than the limit before reading it (the app's file uploads).
+
+    Parameters
+    ----------
+    n_bytes : int
+        Size of the upload in bytes.
+    limit_mb : float, default 50
+        The limit in megabytes (1 MB = 1,048,576 bytes here).
+
+    Raises
+    ------
+    InputError
+        When the size is not a non-negative whole number of bytes, the limit is not a positive
+        number, or the size exceeds the limit.
+    """
+    if isinstance(n_bytes, bool) or not isinstance(n_bytes, numbers.Integral) or n_bytes < 0:
+        raise InputError(
+            f"The upload size must be a whole number of bytes, got {n_bytes!r}",
+            fix="Pass the file's length in bytes",
+        )
+    if (
+        isinstance(limit_mb, bool)
+        or not isinstance(limit_mb, numbers.Real)
+        or not math.isfinite(limit_mb)
+        or limit_mb <= 0
+    ):
+        raise InputError(
+            f"The upload limit must be a positive number of MB, got {limit_mb!r}",
+            fix=f"Use the default of {DEFAULT_LIMIT_MB} MB",
+        )
+    check_size(int(n_bytes), limit_mb=limit_mb, what="file", where="upload")
 
 
 def read_bytes(

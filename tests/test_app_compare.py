@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import functools
+import json
 
 import pandas as pd
 import pytest
@@ -17,7 +18,7 @@ from test_app_support import (
     texts,
 )
 
-from loadcore.export import comparison_summary, forecast_table, to_csv_bytes
+from loadcore.export import comparison_figure, comparison_summary, forecast_table, to_csv_bytes
 from loadcore.scenario import Scenario, make_scenario, seasonal_normal_path
 
 
@@ -137,3 +138,42 @@ def test_removing_a_scenario_keeps_the_others():
     at.run()
     assert_no_exception(at)
     assert list(at.session_state["scenarios"]) == ["Seasonal normal"]
+
+
+def test_the_sidebar_switches_the_meeting_view_and_the_unit_through_the_state():
+    # AppTest runs app/main.py's sidebar on the first run only (later runs run the page): the
+    # sidebar is used there, and the browser test checks that the toggle follows the page.
+    at = new_app(model=demo_model(), scenarios=_two_scenarios())
+    at.toggle(key="meeting_choice").set_value(True)
+    at.run()
+    assert_no_exception(at)
+    assert at.session_state["meeting_view"] is True
+    at.switch_page("pages/compare.py")
+    at.run()
+    assert [t.value for t in at.title] == ["Demand scenarios"]
+    at.button(key="leave_meeting").click()
+    at.run()
+    assert at.session_state["meeting_view"] is False
+    at = new_app(model=demo_model(), scenarios=_two_scenarios())
+    at.radio(key="unit_choice").set_value("F")
+    at.run()
+    assert_no_exception(at)
+    assert at.session_state["temp_unit"] == "F"
+    at.switch_page("pages/compare.py")
+    at.run()
+    assert any("°F" in w for w in texts(at, "warning"))
+
+
+def test_the_chart_is_loadcores_comparison_figure():
+    """The Compare page draws loadcore.export.comparison_figure, the figure the brief embeds."""
+    model = demo_model()
+    forecasts = [model.forecast(s) for s in _two_scenarios().values()]
+    at = _compare()
+    shown = json.loads(at.get("plotly_chart")[0].proto.spec)
+    tail = model.history.frame["demand"].iloc[-56:]
+    expected = comparison_figure(forecasts, history_tail=tail, demand_unit=model.demand_unit)
+    want = json.loads(expected.to_json())
+    assert [t.get("name") for t in shown["data"]] == [t.get("name") for t in want["data"]]
+    for got, trace in zip(shown["data"], want["data"], strict=True):
+        assert got.get("y") == trace.get("y")
+    assert shown["layout"]["height"] == want["layout"]["height"]

@@ -2,17 +2,20 @@
 
 from __future__ import annotations
 
+import json
+
 import pandas as pd
 import pytest
 from test_app_support import (
     DEMO_CSV,
     assert_no_exception,
     demo_history,
+    demo_model,
     new_app,
     texts,
 )
 
-from loadcore.calendar import CalendarSpec, day_types
+from loadcore.calendar import CalendarSpec, day_type_label, day_types
 from loadcore.errors import HistoryError
 from loadcore.history import HistorySettings, read_history
 
@@ -90,19 +93,8 @@ def test_a_fahrenheit_upload_with_other_column_names_replaces_the_history():
     assert "fahrenheit.csv" in at.session_state["history_source"]
 
 
-def test_a_bad_calendar_code_is_refused_and_the_calendar_kept():
-    at = new_app(page="pages/history.py")
-    at.text_input(key="cal_c").set_value("ZZ")
-    at.run()
-    [b for b in at.button if b.label == "Use these calendar settings"][0].click()
-    at.run()
-    assert_no_exception(at)
-    assert any("ZZ" in e for e in texts(at, "error"))
-    assert at.session_state["calendar_spec"] == CalendarSpec()
-
-
 def test_a_shutdown_override_becomes_its_own_day_type():
-    at = new_app(page="pages/history.py")
+    at = new_app(page="pages/history.py", extra={"model": None})  # no model: the next fit's days
     at.text_area(key="cal_overrides").set_value("2024-07-01..2024-07-05 shutdown Mill shutdown")
     at.run()
     [b for b in at.button if b.label == "Use these calendar settings"][0].click()
@@ -131,3 +123,29 @@ def test_warnings_are_listed_and_every_changed_row_is_visible():
     shown = {pd.Timestamp(d).date().isoformat() for d in changed.index}
     for day in (frame.loc[100, "date"], frame.loc[101, "date"], frame.loc[300, "date"]):
         assert day in shown
+
+
+def _chart_day_types(at) -> set[str]:
+    """The day-type legend entries of the History page's demand chart."""
+    spec = json.loads(at.get("plotly_chart")[0].proto.spec)  # the first chart: demand over time
+    return {t["name"] for t in spec["data"] if t.get("mode") == "markers"}
+
+
+def test_with_a_model_in_use_the_days_are_coloured_by_the_models_calendar():
+    """A special period added after the fit belongs to the next fit, not to the model in use:
+    the chart and the counts show the model's day types until the model is fitted again."""
+    model = demo_model()
+    at = new_app(page="pages/history.py", model=model)
+    at.text_area(key="cal_overrides").set_value("2024-07-01..2024-07-05 shutdown Mill shutdown")
+    at.run()
+    [b for b in at.button if b.label == "Use these calendar settings"][0].click()
+    at.run()
+    assert_no_exception(at)
+    assert [o.day_type for o in at.session_state["calendar_spec"].overrides] == ["shutdown"]
+    expected = model.calendar_types(demo_history().frame.index)
+    assert _chart_day_types(at) == {day_type_label(t) for t in set(expected)}
+    assert day_type_label("shutdown") not in _chart_day_types(at)
+    shown = at.dataframe[-1].value
+    assert "shutdown" not in shown.columns
+    for name, count in expected.value_counts().items():
+        assert int(shown[name].iloc[0]) == int(count)

@@ -14,6 +14,8 @@ from test_app_support import (
     texts,
 )
 
+from loadcore.calendar import CalendarSpec, day_types
+from loadcore.history import history_from_frame
 from loadcore.model import FitSettings, load_model
 
 
@@ -115,3 +117,52 @@ def test_the_app_opens_ready_on_a_matching_pre_fitted_demo_model(tmp_path, monke
         assert at.data_editor, "the scenario builder is ready without a fit"
     finally:
         app_state.demo_model.clear()
+
+
+def _press_fit(at) -> None:
+    [b for b in at.get("button") if getattr(b, "label", "") == "Fit the model"][0].click()
+    at.run()
+
+
+def test_a_bad_calendar_code_is_refused_and_the_calendar_kept():
+    at = new_app(page="pages/model_fit.py", extra={"model": None})
+    at.text_input(key="fit_holiday_code").set_value("ZZ")
+    _press_fit(at)
+    assert_no_exception(at)
+    assert any("ZZ" in e for e in texts(at, "error"))
+    assert at.session_state["calendar_spec"] == CalendarSpec()
+
+
+def test_a_blank_holiday_code_is_refused_rather_than_read_as_a_country():
+    """Blank used to become "US" without a word; now it is an error that says what to type."""
+    model, _ = fitted_through_app()
+    at = new_app(page="pages/model_fit.py", model=model)
+    at.text_input(key="fit_holiday_code").set_value("   ")
+    _press_fit(at)
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and errors[0].startswith("These settings cannot be used")
+    assert "No holiday calendar was given" in errors[0]
+    assert at.session_state["model"] is model
+    assert at.session_state["calendar_spec"] == model.settings.calendar
+
+
+def test_no_public_holidays_can_be_chosen_and_fitted():
+    """'No public holidays' fits with CalendarSpec(country=None): no holiday day type at all."""
+    frame = demo_history().frame.iloc[-730:]
+    short = history_from_frame(frame[["demand", "temperature_c", "temperature_filled"]])
+    at = new_app(page="pages/model_fit.py", extra={"model": None, "history": short})
+    at.radio(key="fit_holidays").set_value("none")
+    for key, value in {"fit_p": 1, "fit_q": 1, "fit_pq": 2, "fit_bp": 0, "fit_bq": 0}.items():
+        at.number_input(key=key).set_value(value)  # a small search: this test is about holidays
+    at.number_input(key="fit_harmonics").set_value(1)
+    _press_fit(at)  # form widgets take their values when the form is submitted
+    assert_no_exception(at)
+    assert not texts(at, "error")
+    fitted = at.session_state["model"]
+    assert fitted is not None and fitted.history.fingerprint == short.fingerprint
+    assert fitted.settings.calendar == CalendarSpec(country=None)
+    assert at.session_state["calendar_spec"] == CalendarSpec(country=None)
+    assert "holiday" not in fitted.day_type_levels
+    assert "holiday" in set(day_types(short.frame.index, CalendarSpec()))  # the US would have had
+    assert at.radio(key="fit_holidays").value == "none"

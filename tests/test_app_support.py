@@ -25,8 +25,6 @@ REPO = Path(__file__).resolve().parent.parent
 if str(REPO) not in sys.path:
     sys.path.insert(0, str(REPO))
 
-from app import palette  # noqa: E402
-
 MAIN = str(REPO / "app" / "main.py")
 DEMO_CSV = REPO / "demo_data" / "history.csv"
 
@@ -107,7 +105,7 @@ def texts(at: AppTest, kind: str) -> list[str]:
 
 def assert_no_exception(at: AppTest) -> None:
     """No exception reached the page, neither uncaught nor caught by the app's last-resort guard."""
-    from app.state import INTERNAL_ERROR
+    from loadcore.texts import INTERNAL_ERROR
 
     assert not at.exception, [e.value for e in at.exception]
     assert INTERNAL_ERROR not in texts(at, "error"), "a page failed; see the log for the traceback"
@@ -189,21 +187,6 @@ def heat_wave_by_loadcore(model, settings: dict[str, Any], name: str = "Heat wav
 # --------------------------------------------------------------------------------------------
 
 
-def test_band_fill_reads_the_hex_colour():
-    assert palette.band_fill("#1F6F78", 0.3) == "rgba(31, 111, 120, 0.30)"
-
-
-def test_day_type_colours_are_distinct_for_override_types():
-    colours = palette.day_type_colours(["midweek", "sunday", "shutdown", "bridge", "midweek"])
-    assert list(colours) == ["midweek", "sunday", "shutdown", "bridge"]
-    assert len(set(colours.values())) == 4
-
-
-def test_scenario_colours_wrap_around():
-    n = len(palette.SCENARIOS)
-    assert palette.scenario_colour(n + 1) == palette.scenario_colour(1)
-
-
 @pytest.mark.parametrize("unit", ["C", "F"])
 def test_temperature_helpers_round_trip(unit):
     """°F conversion is loadcore's (scenario.c_to_f / f_to_c); the app only chooses the unit."""
@@ -229,3 +212,50 @@ st.session_state["out"] = (shown, back, state.delta_to_display(5.0), state.fmt_t
     else:
         assert shown == [-10.0, 0.0, 37.5]
         assert text == "100.0 °C"
+
+
+def test_state_transitions_are_the_only_writers_of_the_session():
+    """Every transition in app/state.py, run as a page would run it."""
+    script = """
+import pandas as pd
+import streamlit as st
+from app import state
+from loadcore.calendar import CalendarSpec
+from loadcore.errors import InputError
+from loadcore.scenario import constant_path, make_scenario
+
+state.init_state()
+a = make_scenario("A", constant_path("2031-07-01", 3, 20.0))
+b = make_scenario("B", constant_path("2031-07-01", 3, 25.0))
+hotter = make_scenario("A", constant_path("2031-07-01", 3, 30.0))
+log = [state.put_scenario(a), state.put_scenario(b), state.put_scenario(hotter)]
+view = state.scenarios()
+view.pop("B")  # the getter is a copy: this changes nothing
+log.append(list(state.scenarios()))
+state.remove_scenarios(["B", "not there"])
+log.append(list(state.scenarios()))
+state.set_temp_unit("°f")
+log.append(state.temp_unit())
+try:
+    state.set_temp_unit("K")
+except InputError:
+    log.append("refused")
+state.set_meeting_view(1)
+log.append(state.meeting_view())
+state.use_calendar(CalendarSpec(country=None))
+log.append(state.calendar().country)
+st.session_state["out"] = (log, state.scenarios()["A"] == hotter)
+"""
+    at = AppTest.from_string(script, default_timeout=120)
+    at.run()
+    assert_no_exception(at)
+    log, replaced = at.session_state["out"]
+    assert log == [False, False, True, ["A", "B"], ["A"], "F", "refused", True, None]
+    assert replaced
+    assert at.session_state["temp_unit"] == "F" and at.session_state["meeting_view"] is True
+
+
+def test_pages_leave_the_session_to_app_state():
+    """Pages call app/state.py's transitions; none reads or writes st.session_state itself."""
+    for path in sorted((REPO / "app" / "pages").glob("*.py")):
+        assert "session_state" not in path.read_text(encoding="utf-8"), path.name

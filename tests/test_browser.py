@@ -189,7 +189,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             info.value.save_as(saved)
             rows = list(csv.DictReader(io.StringIO(saved.read_text(encoding="utf-8"))))
             assert rows, "the downloaded CSV is empty"
-            expected = {
+            expected = {  # the one forecast table (loadcore.export.forecast_table), in °C
                 "scenario",
                 "date",
                 "temperature_c",
@@ -218,6 +218,11 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             page.locator(".js-plotly-plot").first.wait_for()
             assert page.locator("[data-testid='stSidebar']").is_hidden()
             _shot(page, "05_meeting_view")
+            # Leaving it from the page turns the sidebar's toggle off too (app/state.py).
+            page.get_by_role("button", name="Leave the meeting view").click()
+            page.get_by_role("heading", name="Day by day").wait_for()
+            toggle = page.locator("[data-testid='stSidebar'] input[type='checkbox']").first
+            assert not toggle.is_checked()
             # The app works offline: no font, icon or script is fetched from outside.
             assert outside == [], outside
         finally:

@@ -22,7 +22,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from loadcore.errors import InputError, LoadcoreError
-from loadcore.export import FORMULA_PREFIXES, check_upload_size, safe_cell, to_csv_bytes
+from loadcore.export import FORMULA_PREFIXES, safe_cell, to_csv_bytes
+from loadcore.files import check_upload_size
 
 FAST = settings(
     max_examples=60,

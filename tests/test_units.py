@@ -212,3 +212,17 @@ def test_output_that_is_an_input_is_refused(tmp_path):
     with pytest.raises(InputError, match="one of the input files"):
         files.refuse_overwriting_inputs(link, source)
     files.refuse_overwriting_inputs(tmp_path / "other.csv", source)
+
+
+def test_check_upload_size():
+    files.check_upload_size(0)
+    files.check_upload_size(50 * 1024 * 1024)
+    with pytest.raises(InputError, match="limit"):
+        files.check_upload_size(50 * 1024 * 1024 + 1)
+    with pytest.raises(InputError, match="limit"):
+        files.check_upload_size(2_000_000, limit_mb=1)
+    for bad in (-1, 1.5, "10", True, None):
+        with pytest.raises(InputError):
+            files.check_upload_size(bad)  # type: ignore[arg-type]
+    with pytest.raises(InputError):
+        files.check_upload_size(10, limit_mb=0)

@@ -53,18 +53,14 @@ if run:
         state.show_error(exc, "The backtest could not be run")
     else:
         bar.empty()
-        st.session_state[state.BACKTEST] = {
-            "key": (history.fingerprint, repr(settings)),
-            "result": result,
-        }
+        state.keep_backtest(history, settings, result)
 
-kept = st.session_state.get(state.BACKTEST)
-if not kept or kept["key"] != (history.fingerprint, repr(settings)):
+result = state.kept_backtest(history, settings)
+if result is None:
     st.info("Choose the set-up and press **Run the backtest**.")
     state.footer()
     st.stop()
 
-result = kept["result"]
 summary = result.summary
 st.markdown(
     f"**{summary['mode_label']}**: {summary['n_origins']} origins from {summary['first_origin']} "

@@ -4,27 +4,24 @@ from __future__ import annotations
 
 import streamlit as st
 
-from app import charts, state
+from app import state
 from loadcore import units
 from loadcore.errors import LoadcoreError
-from loadcore.export import comparison_summary, forecast_table, to_csv_bytes
+from loadcore.export import comparison_figure, comparison_summary, forecast_table, to_csv_bytes
 
-meeting = bool(st.session_state.get(state.MEETING))
+meeting = state.meeting_view()
 if not meeting:
     st.title("Compare")
 fitted = state.need_model()
 forecasts = state.forecasts_for_set(fitted)
 
-
-def _leave_meeting() -> None:
-    st.session_state[state.MEETING] = False
-
+leave = {"on_click": state.set_meeting_view, "args": (False,)}
 
 if not forecasts:
     st.info("The set is empty. Build a scenario and add it to the set first.")
     st.page_link("pages/scenario.py", label="Build a scenario", icon=":material/thermostat:")
     if meeting:
-        st.button("Leave the meeting view", on_click=_leave_meeting)
+        st.button("Leave the meeting view", **leave)
     state.footer()
     st.stop()
 
@@ -53,7 +50,13 @@ if meeting:
     tail = fitted.history.frame["demand"].iloc[-42:]
     st.plotly_chart(
         theme=None,
-        figure_or_data=charts.comparison_figure(tail, list(forecasts.values()), meeting=True),
+        figure_or_data=comparison_figure(
+            list(forecasts.values()),
+            history_tail=tail,
+            temp_unit=unit,
+            demand_unit=fitted.demand_unit,
+            meeting=True,
+        ),
         key="meeting_chart",
     )
     summary = comparison_summary(list(forecasts.values()), names[0])
@@ -72,7 +75,7 @@ if meeting:
             "Outside the fitted temperature range (extrapolated):\n\n"
             + "\n".join(f"- {line}" for line in lines)
         )
-    st.button("Leave the meeting view", on_click=_leave_meeting, key="leave_meeting")
+    st.button("Leave the meeting view", key="leave_meeting", **leave)
     state.footer()
     st.stop()
 
@@ -83,7 +86,13 @@ tail_days = right.number_input("History days shown", 7, 730, 56, step=7, key="cm
 
 chosen = [forecasts[n] for n in shown]
 tail = fitted.history.frame["demand"].iloc[-int(tail_days) :]
-st.plotly_chart(theme=None, figure_or_data=charts.comparison_figure(tail, chosen), key="cmp_chart")
+st.plotly_chart(
+    theme=None,
+    figure_or_data=comparison_figure(
+        chosen, history_tail=tail, temp_unit=unit, demand_unit=fitted.demand_unit
+    ),
+    key="cmp_chart",
+)
 st.caption(
     "Lines are mean daily peaks; shaded bands are 80 % and 95 % prediction intervals that treat "
     "the scenario temperatures as known. Triangles mark days outside the fitted temperature range."
@@ -187,8 +196,7 @@ with right:
 with st.expander("Remove scenarios from the set"):
     drop = st.multiselect("Scenarios to remove", names, key="cmp_drop")
     if st.button("Remove", disabled=not drop, key="cmp_drop_go"):
-        for name in drop:
-            state.scenarios().pop(name, None)
+        state.remove_scenarios(drop)
         st.rerun()
 
 state.footer()

@@ -53,15 +53,14 @@ if run:
         state.show_error(exc, "The ensemble could not be run")
     else:
         bar.empty()
-        st.session_state[state.ENSEMBLE] = {"model": state.model_key(fitted), "result": result}
+        state.keep_ensemble(fitted, result)
 
-kept = st.session_state.get(state.ENSEMBLE)
-if not kept or kept["model"] != state.model_key(fitted):
+result = state.kept_ensemble(fitted)
+if result is None:
     st.info("Set the window and press **Run the ensemble**.")
     state.footer()
     st.stop()
 
-result = kept["result"]
 tail = fitted.history.frame["demand"].iloc[-28:]
 st.plotly_chart(
     theme=None,

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 
 import numpy as np
@@ -9,9 +10,9 @@ import pandas as pd
 import streamlit as st
 
 from app import charts, state
-from loadcore.calendar import CalendarSpec, day_types, overrides_from_text
+from loadcore.calendar import day_types, overrides_from_text
 from loadcore.errors import LoadcoreError
-from loadcore.export import check_upload_size
+from loadcore.files import check_upload_size
 from loadcore.history import HistorySettings, read_history
 
 st.title("History")
@@ -31,7 +32,7 @@ def _read_upload(_data: bytes, digest: str, settings: HistorySettings):
 # --------------------------------------------------------------------------------------------
 history = state.history()
 st.info(
-    f"In use: **{st.session_state[state.HISTORY_SOURCE]}**, {history.start.date()} to "
+    f"In use: **{state.history_source()}**, {history.start.date()} to "
     f"{history.end.date()} ({len(history.frame)} days).",
     icon=":material/database:",
 )
@@ -92,14 +93,12 @@ with st.expander("Upload a history file", expanded=False):
             state.show_error(exc, "The file was not used")
             st.caption("The history in use, the model and the scenarios are unchanged.")
         else:
-            st.session_state[state.HISTORY] = new
-            st.session_state[state.HISTORY_SOURCE] = f"uploaded file {upload.name}"
+            state.use_history(new, f"uploaded file {upload.name}")
             st.success(f"Using {upload.name}: {new.start.date()} to {new.end.date()}.")
             st.rerun()
-    if st.session_state[state.HISTORY_SOURCE] != state.DEMO_SOURCE:
+    if not state.using_demo_data():
         if st.button("Go back to the demo data"):
-            st.session_state[state.HISTORY] = state.demo_history()
-            st.session_state[state.HISTORY_SOURCE] = state.DEMO_SOURCE
+            state.use_demo_history()
             st.rerun()
 
 history = state.history()
@@ -147,25 +146,10 @@ if len(changed):
         st.dataframe(shown, width="stretch")
 
 # --------------------------------------------------------------------------------------------
-# Calendar (day types)
+# Calendar: special periods (public holidays and the day-type scheme are set on the Model page)
 # --------------------------------------------------------------------------------------------
-spec: CalendarSpec = st.session_state[state.CALENDAR]
-with st.expander("Calendar: public holidays and special periods", expanded=False):
-    left, middle, right = st.columns(3)
-    country = left.text_input("Country code for public holidays", value=spec.country, key="cal_c")
-    subdivision = middle.text_input(
-        "State or province code (optional)", value=spec.subdivision or "", key="cal_sub"
-    )
-    scheme = right.radio(
-        "Day types",
-        ["detailed", "simple"],
-        index=0 if spec.scheme == "detailed" else 1,
-        format_func=lambda s: {
-            "detailed": "Monday, midweek, Friday, Saturday, Sunday, holiday",
-            "simple": "working / non-working",
-        }[s],
-        key="cal_scheme",
-    )
+spec = state.calendar()
+with st.expander("Calendar: special periods", expanded=False):
     override_text = st.text_area(
         "Special periods, one a line: first date[..last date] name [label]",
         value="\n".join(
@@ -177,28 +161,28 @@ with st.expander("Calendar: public holidays and special periods", expanded=False
         placeholder="2025-12-24..2026-01-01 year_end Year-end low load\n2026-07-03 bridge",
         key="cal_overrides",
         help="A plant shutdown, a year-end period or a bridge day becomes its own day type. "
-        "Give the past dates too, so that the model can learn the effect.",
+        "Give the past dates too, so that the model can learn the effect. Public holidays and "
+        "the day-type scheme are chosen on the Model page.",
     )
     if st.button("Use these calendar settings"):
         try:
-            new_spec = CalendarSpec(
-                country=country.strip() or "US",
-                subdivision=subdivision.strip() or None,
-                scheme=scheme,
-                overrides=overrides_from_text(override_text),
-            )
+            new_spec = dataclasses.replace(spec, overrides=overrides_from_text(override_text))
         except LoadcoreError as exc:
             state.show_error(exc, "The calendar was not changed")
         else:
-            st.session_state[state.CALENDAR] = new_spec
+            state.use_calendar(new_spec)
             st.success("Calendar updated. Fit the model again to use it.")
-            spec = new_spec
 
 # --------------------------------------------------------------------------------------------
-# Charts
+# Charts: day types as the model in use sees them (or, with no model, the calendar for the fit)
 # --------------------------------------------------------------------------------------------
-types = day_types(frame.index, spec)
+types = day_types(frame.index, state.calendar_in_use())
 st.subheader("Demand and temperature over time")
+if fitted is not None:
+    st.caption(
+        "Days are coloured by the day types of the model in use; calendar changes made since it "
+        "was fitted count from the next fit."
+    )
 st.plotly_chart(
     theme=None,
     figure_or_data=charts.history_figure(

@@ -8,19 +8,28 @@ import numpy as np
 import streamlit as st
 
 from app import charts, state
+from loadcore.calendar import parse_holidays
 from loadcore.errors import LoadcoreError
-from loadcore.export import check_upload_size
+from loadcore.files import check_upload_size
 from loadcore.model import FitSettings, TermSpec, load_model
 
 st.title("Model")
 history = state.history()
-current: FitSettings = st.session_state[state.FIT_SETTINGS]
-calendar = st.session_state[state.CALENDAR]
+current: FitSettings = state.fit_settings()
+calendar = state.calendar()
 st.caption(
     "Daily demand is explained by temperature, day type and (optionally) an annual cycle and "
     "growth; what is left over follows a time-series error model (ARIMA with weekly terms) chosen "
     "by the lowest AICc."
 )
+
+
+def _holiday_code(spec) -> str:
+    """The calendar's holiday choice as the code typed on this page (``US``, ``US-TX``, blank)."""
+    if not spec.country:
+        return ""
+    return f"{spec.country}-{spec.subdivision}" if spec.subdivision else spec.country
+
 
 # --------------------------------------------------------------------------------------------
 # Settings
@@ -70,6 +79,25 @@ with st.form("fit_form", border=True):
         key="fit_harmonics",
     )
     trend = c.toggle("Include growth over the years", value=current.terms.trend, key="fit_trend")
+    a, b = st.columns([1, 2])
+    holidays = a.radio(
+        "Public holidays",
+        ["country", "none"],
+        index=0 if calendar.country else 1,
+        format_func=lambda h: {
+            "country": "a country's or region's public holidays",
+            "none": "no public holidays (weekends and special periods only)",
+        }[h],
+        key="fit_holidays",
+    )
+    holiday_code = b.text_input(
+        "Holiday calendar: country code, or country-region (e.g. US, US-TX, CA-ON)",
+        value=_holiday_code(calendar),
+        key="fit_holiday_code",
+        help="The public-holiday calendar of the holidays package (not used with no public "
+        "holidays); holidays become a day type of their own. Special periods (shutdowns, bridge "
+        "days) are set on the History page.",
+    )
     a, b, c = st.columns(3)
     unit = state.unit_symbol()
     ref = a.number_input(
@@ -105,6 +133,8 @@ with st.form("fit_form", border=True):
 
 if go:
     try:
+        # The holiday choice is parsed once, here: "none" is no public holidays, never a default.
+        country, subdivision = (None, None) if holidays == "none" else parse_holidays(holiday_code)
         terms = TermSpec(
             response=response,
             reference_temp_c=float(state.from_display(ref)),
@@ -122,7 +152,9 @@ if go:
             weekly_ma_up_to=int(max_big_q),
             log=bool(use_log),
             terms=terms,
-            calendar=dataclasses.replace(calendar, scheme=scheme),
+            calendar=dataclasses.replace(
+                calendar, country=country, subdivision=subdivision, scheme=scheme
+            ),
         )
     except LoadcoreError as exc:
         state.show_error(exc, "These settings cannot be used")
@@ -140,9 +172,7 @@ if go:
             st.caption("The model in use (if any) is unchanged.")
         else:
             bar.progress(1.0, text=f"Done: {fitted.candidates_evaluated} candidates evaluated.")
-            st.session_state[state.MODEL] = fitted
-            st.session_state[state.FIT_SETTINGS] = settings
-            st.session_state[state.CALENDAR] = settings.calendar
+            state.use_model(fitted)
 
 # --------------------------------------------------------------------------------------------
 # Load a saved model
@@ -157,12 +187,8 @@ with st.expander("Upload a saved model (JSON)"):
         except LoadcoreError as exc:
             state.show_error(exc, f"{upload.name} was not used")
         else:
-            st.session_state[state.MODEL] = loaded
-            st.session_state[state.FIT_SETTINGS] = loaded.settings
-            st.session_state[state.CALENDAR] = loaded.settings.calendar
-            if loaded.history.fingerprint != history.fingerprint:
-                st.session_state[state.HISTORY] = loaded.history
-                st.session_state[state.HISTORY_SOURCE] = f"the history saved in {upload.name}"
+            state.use_model(loaded, source=upload.name)
+            history = state.history()
             st.success(f"Using the model from {upload.name}.")
 
 fitted = state.model()

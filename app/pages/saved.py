@@ -5,9 +5,9 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from app import charts, state
+from app import state
 from loadcore.errors import LoadcoreError
-from loadcore.export import comparison_summary, meeting_brief_html
+from loadcore.export import comparison_figure, comparison_summary, meeting_brief_html
 from loadcore.library import (
     ScenarioLibrary,
     default_library_path,
@@ -124,7 +124,7 @@ if a.button("Open in the set", key="lib_open", disabled=fitted is None):
     except LoadcoreError as exc:
         state.show_error(exc, "It does not fit the model in use")
     else:
-        state.scenarios()[scenario.name] = scenario
+        state.put_scenario(scenario)
         st.success(f"'{scenario.name}' is in the set; see the Compare page.")
 with b.popover("Rename"):
     new_name = st.text_input("New name", value=saved.name, key="lib_new_name")
@@ -158,7 +158,14 @@ if picked:
         stored = [e.to_forecast() for e in entries]
         tail = entries[0].history_tail()["demand"]
         st.plotly_chart(
-            theme=None, figure_or_data=charts.comparison_figure(tail, stored), key="lib_chart"
+            theme=None,
+            figure_or_data=comparison_figure(
+                stored,
+                history_tail=tail,
+                temp_unit=state.temp_unit(),
+                demand_unit=entries[0].context.get("demand_unit", "MW"),
+            ),
+            key="lib_chart",
         )
         base = st.selectbox("Base scenario", picked, key="lib_base")
         ok, summary = state.attempt(lambda: comparison_summary(stored, base))
@@ -173,10 +180,12 @@ if picked:
                 model_summary=entries[0].context.get("model_summary", {}),
                 base_name=base,
                 title="Calder Basin demand scenarios"
-                if st.session_state[state.HISTORY_SOURCE].startswith("demo")
+                if state.using_demo_data()
                 else "Demand scenarios",
                 period_text=period_text,
                 temp_unit=state.temp_unit(),
+                demand_unit=entries[0].context.get("demand_unit", "MW"),
+                demand_kind=entries[0].context.get("demand_kind", "peak"),
             )
         )
         if ok:

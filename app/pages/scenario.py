@@ -11,7 +11,8 @@ import streamlit as st
 from app import charts, state
 from loadcore.calendar import BASE_TYPE
 from loadcore.errors import LoadcoreError
-from loadcore.export import check_upload_size
+from loadcore.export import comparison_figure
+from loadcore.files import check_upload_size
 from loadcore.scenario import (
     MAX_DAYS,
     Scenario,
@@ -315,7 +316,11 @@ if len(outside):
 st.subheader("Forecast for this scenario")
 tail = fitted.history.frame["demand"].iloc[-28:]
 st.plotly_chart(
-    theme=None, figure_or_data=charts.comparison_figure(tail, [fc]), key="scn_forecast_chart"
+    theme=None,
+    figure_or_data=comparison_figure(
+        [fc], history_tail=tail, temp_unit=state.temp_unit(), demand_unit=fitted.demand_unit
+    ),
+    key="scn_forecast_chart",
 )
 for line in fc.warnings():
     if "range" not in line.lower():
@@ -328,7 +333,7 @@ label = "Replace it in the set" if exists else "Add to the set"
 if exists:
     st.caption(f"A scenario named '{scenario.name}' is already in the set.")
 if st.button(label, type="primary", key="scn_add"):
-    state.scenarios()[scenario.name] = scenario
+    state.put_scenario(scenario)
     st.success(
         f"'{scenario.name}' is in the set ({len(state.scenarios())} scenario(s)). "
         "See them side by side on the Compare page."

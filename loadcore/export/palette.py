@@ -1,17 +1,23 @@
-"""The planner app's own colours and chart styling.
+"""The one palette: colours and type for every chart and for the meeting brief.
 
-One small palette used by every chart so that a scenario, a day type or a warning looks the same on
-every page. The colours are our own choice for this app (muted, readable on a projector, and distinct
-for the common forms of colour blindness when paired with the marker shapes below).
+The app's pages and the offline brief draw with these, so a scenario, a day type or a warning looks
+the same on screen and on paper. The colours are our own choice (muted, readable on a projector,
+and distinct for the common forms of colour blindness when paired with the marker shapes below).
+The page colours are kept in step with ``.streamlit/config.toml``.
 """
 
 from __future__ import annotations
 
-# Page and text colours (kept in step with .streamlit/config.toml).
+from collections.abc import Sequence
+
+# Page and text colours.
 INK = "#1E2A2E"
 PAPER = "#FBFAF7"
 GRID = "#DCE3E0"
 MUTED = "#6C7A7D"
+# Table headings and the background of a caution box in the brief.
+HEADING_FILL = "#EDF1EF"
+CAUTION_FILL = "#F7E9EB"
 
 # The demand history and the actual values.
 HISTORY = "#3B4A4F"
@@ -57,7 +63,7 @@ def scenario_colour(index: int) -> str:
     return SCENARIOS[index % len(SCENARIOS)]
 
 
-def day_type_colours(day_types: list[str] | tuple[str, ...]) -> dict[str, str]:
+def day_type_colours(day_types: Sequence[str]) -> dict[str, str]:
     """Colour for every day type in ``day_types``; unknown (override) types take EXTRA colours."""
     colours: dict[str, str] = {}
     extra = 0
