@@ -28,10 +28,11 @@ import warnings
 from collections.abc import Sequence
 from typing import Any
 
-from loadcore import __version__, texts
+from loadcore import texts
 from loadcore.cli import app, backtest, check, ensemble, fit, forecast, scenarios
 from loadcore.cli.common import ProgressBar, clip, one_line
 from loadcore.errors import HistoryError, LoadcoreError
+from loadcore.version import __version__
 
 log = logging.getLogger(__name__)
 

@@ -17,7 +17,7 @@ from typing import Any
 
 import pandas as pd
 
-from loadcore import __version__, texts, units
+from loadcore import texts, units
 from loadcore.errors import InputError
 from loadcore.export import palette
 from loadcore.export.figures import comparison_figure, figure_html
@@ -30,6 +30,7 @@ from loadcore.export.forecasts import (
     scenario_names,
 )
 from loadcore.export.tables import comparison_summary, out_of_range_days
+from loadcore.version import __version__
 
 log = logging.getLogger(__name__)
 

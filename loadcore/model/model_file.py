@@ -40,9 +40,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .. import __version__, files, plainjson
+from .. import files, plainjson
 from ..errors import InputError, LoadcoreError, ModelError
 from ..history import HistorySettings, history_from_frame
+from ..version import __version__
 from .orders import WEEKLY_PERIOD, DifferencingDecision, Orders
 from .settings import FitSettings
 from .statespace import EndState, own_name

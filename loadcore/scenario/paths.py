@@ -339,7 +339,20 @@ def copy_period(history: Any, source_start: Any, start: Any, days: int) -> pd.Se
 
 
 def shift_path(path: pd.Series, delta_c: float) -> pd.Series:
-    """Add ``delta_c`` (°C, may be negative) to every day of a path; returns a new path."""
+    """Add ``delta_c`` to every day of a path (a warmer or cooler version of it).
+
+    Parameters
+    ----------
+    path : pandas.Series
+        Daily temperatures, °C, on a daily index named ``date``.
+    delta_c : float
+        The shift, °C (a temperature difference; may be negative).
+
+    Returns
+    -------
+    pandas.Series
+        A new path on the same dates.
+    """
     base = _check_path(path)
     delta = check_temperature(delta_c, "temperature shift")
     return _series(pd.DatetimeIndex(base.index, name="date"), base.to_numpy() + delta)
