@@ -21,7 +21,7 @@ if str(_REPO) not in sys.path:
 
 import streamlit as st  # noqa: E402
 
-from app import state  # noqa: E402
+from app import display, state  # noqa: E402
 from loadcore import texts  # noqa: E402
 
 logger = logging.getLogger("loadcore.app")
@@ -34,7 +34,8 @@ st.set_page_config(
     initial_sidebar_state="expanded",
 )
 
-state.init_state()
+for problem, what in state.init_state():
+    display.show_error(problem, what)
 
 PAGES = {
     "Plan": [
@@ -59,7 +60,7 @@ with st.sidebar:
     st.radio(
         "Temperatures in",
         options=["C", "F"],
-        format_func=lambda unit: state.unit_symbol(unit),
+        format_func=lambda unit: display.unit_symbol(unit),
         key=state.UNIT_WIDGET,
         on_change=state.unit_chosen,
         horizontal=True,

@@ -1,4 +1,4 @@
-"""The session: its keys, every transition between its states, and small display helpers.
+"""The session: its keys, and every transition between its states.
 
 This module owns ``st.session_state``. Pages read the session through the getters below and change
 it only through the transition functions (``use_history``, ``use_model``, ``put_scenario``...);
@@ -38,20 +38,17 @@ Session keys (the only ones shared between pages):
 
 from __future__ import annotations
 
-import hashlib
-import json
 import os
-from collections.abc import Callable, Iterable, Mapping
+from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-import pandas as pd
 import streamlit as st
 
-from loadcore import texts, units
+from app import cache
+from loadcore import units
 from loadcore.calendar import CalendarSpec
-from loadcore.errors import HistoryError, LoadcoreError
+from loadcore.errors import LoadcoreError
 
 REPO_ROOT = Path(__file__).resolve().parent.parent
 DEMO_HISTORY = REPO_ROOT / "demo_data" / "history.csv"
@@ -74,8 +71,6 @@ BACKTEST = "backtest"
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
 MEETING_WIDGET = "meeting_choice"
-
-LEVELS = (80, 95)
 
 DEMO_SOURCE = "demo data (Calder Basin Power & Light)"
 
@@ -121,9 +116,17 @@ def file_history(path: str):
     return read_history(path)
 
 
-def init_state() -> None:
+def init_state() -> list[tuple[LoadcoreError, str]]:
     """Fill in the session's defaults: the demo history (or the file from ``loadcore app
-    --history``), its calendar, and the pre-fitted demo model when it matches."""
+    --history``), its calendar, and the pre-fitted demo model when it matches.
+
+    Returns
+    -------
+    list of (LoadcoreError, str)
+        What went wrong on the way and what it meant, for the caller to show (empty when all
+        went well; this module draws nothing).
+    """
+    problems: list[tuple[LoadcoreError, str]] = []
     state = st.session_state
     if HISTORY not in state:
         chosen = os.environ.get(HISTORY_ENV, "").strip()
@@ -133,7 +136,9 @@ def init_state() -> None:
                 history = file_history(chosen)
                 state[HISTORY_SOURCE] = f"file {Path(chosen).name}"
             except LoadcoreError as exc:
-                show_error(exc, f"{chosen} could not be used; the demo data is loaded instead")
+                problems.append(
+                    (exc, f"{chosen} could not be used; the demo data is loaded instead")
+                )
         if history is None:
             history = demo_history()
             state[HISTORY_SOURCE] = DEMO_SOURCE
@@ -158,6 +163,7 @@ def init_state() -> None:
     state.setdefault(FORECASTS, {})
     state.setdefault(TEMP_UNIT, "C")
     state.setdefault(MEETING, False)
+    return problems
 
 
 # --------------------------------------------------------------------------------------------
@@ -308,13 +314,13 @@ def meeting_chosen() -> None:
 
 def keep_ensemble(fitted, result) -> None:
     """Keep a weather-ensemble result made with ``fitted``."""
-    st.session_state[ENSEMBLE] = {"model": model_key(fitted), "result": result}
+    st.session_state[ENSEMBLE] = {"model": cache.model_key(fitted), "result": result}
 
 
 def kept_ensemble(fitted):
     """The kept ensemble result when it was made with ``fitted``, else None."""
     kept = st.session_state.get(ENSEMBLE)
-    return kept["result"] if kept and kept["model"] == model_key(fitted) else None
+    return kept["result"] if kept and kept["model"] == cache.model_key(fitted) else None
 
 
 def _backtest_key(hist, settings) -> tuple[str, str]:
@@ -333,65 +339,8 @@ def kept_backtest(hist, settings):
 
 
 # --------------------------------------------------------------------------------------------
-# Fitting: one shared store keyed by the data fingerprint and the settings
+# The set's forecasts (cached in app/cache.py), kept for the pages that read them
 # --------------------------------------------------------------------------------------------
-
-FITS_KEPT = 4
-
-
-@st.cache_resource(show_spinner=False)
-def _fitted_store() -> dict:
-    """Fitted models shared by every session, (history fingerprint, settings key) -> model.
-
-    A store rather than a cached fit, so the fit can report progress to the page (a cached
-    function may not update an element made outside it).
-    """
-    return {}
-
-
-def fit_model(hist, settings, progress=None):
-    """``loadcore.model.fit(history, settings, progress)``, reused for the same data and settings."""
-    from loadcore.model import fit
-
-    store = _fitted_store()
-    key = (hist.fingerprint, settings.key())
-    if key in store:
-        return store[key]
-    fitted = fit(hist, settings, progress=progress)
-    store[key] = fitted
-    while len(store) > FITS_KEPT:
-        store.pop(next(iter(store)))
-    return fitted
-
-
-# --------------------------------------------------------------------------------------------
-# Forecasts: cached per (model, scenario) so a redraw never recomputes an unchanged forecast
-# --------------------------------------------------------------------------------------------
-
-
-def model_key(fitted) -> str:
-    """A text key that changes whenever the fitted model changes."""
-    return f"{fitted.fingerprint}|{fitted.order}|{fitted.seasonal_order}|{fitted.aicc!r}"
-
-
-def scenario_key(scenario) -> str:
-    """A sha256 over the scenario's name, dates, temperatures and day types."""
-    digest = hashlib.sha256()
-    digest.update(str(scenario.name).encode())
-    digest.update(pd.DatetimeIndex(scenario.dates).asi8.tobytes())
-    digest.update(np.asarray(scenario.temperature_c, dtype=float).tobytes())
-    digest.update(json.dumps(list(scenario.day_types or ())).encode())
-    return digest.hexdigest()
-
-
-@st.cache_resource(max_entries=256, show_spinner=False)
-def _cached_forecast(_model, _scenario, model_id: str, scenario_id: str, levels: tuple[int, ...]):
-    return _model.forecast(_scenario, levels=levels)
-
-
-def forecast(fitted, scenario, levels: tuple[int, ...] = LEVELS):
-    """``fitted.forecast(scenario, levels)``, cached by the model and scenario keys."""
-    return _cached_forecast(fitted, scenario, model_key(fitted), scenario_key(scenario), levels)
 
 
 def forecasts_for_set(fitted) -> dict:
@@ -402,123 +351,8 @@ def forecasts_for_set(fitted) -> dict:
     out = {}
     for name, scenario in scenarios().items():
         try:
-            out[name] = forecast(fitted, scenario)
+            out[name] = cache.forecast(fitted, scenario)
         except LoadcoreError as exc:
             st.error(f"Scenario '{name}' cannot be forecast: {exc}")
     st.session_state[FORECASTS] = out
     return out
-
-
-# --------------------------------------------------------------------------------------------
-# Temperature units (°C inside, °F only at the edges; loadcore.units converts and formats)
-# --------------------------------------------------------------------------------------------
-
-
-def unit_symbol(unit: units.Unit | None = None) -> str:
-    """``"°C"`` or ``"°F"``."""
-    return units.symbol(unit or temp_unit())
-
-
-def to_display(values_c):
-    """Temperatures in °C converted to the display unit (arrays, Series or floats)."""
-    return units.to_unit(values_c, temp_unit())
-
-
-def from_display(values):
-    """Temperatures typed in the display unit converted to °C."""
-    return units.from_unit(values, temp_unit())
-
-
-def delta_to_display(delta_c: float) -> float:
-    """A temperature difference in °C in the display unit (a °F step is 5/9 of a °C step)."""
-    return float(units.delta_to_unit(float(delta_c), temp_unit()))
-
-
-def delta_from_display(delta: float) -> float:
-    """A temperature difference typed in the display unit, in °C."""
-    return float(units.delta_from_unit(float(delta), temp_unit()))
-
-
-def fmt_temp(value_c: float, digits: int = 1) -> str:
-    """A temperature in °C as display text, e.g. ``"41.0 °C"`` or ``"105.8 °F"``."""
-    return units.format_temp(value_c, temp_unit(), digits)
-
-
-def fmt_delta(delta_c: float, digits: int = 1) -> str:
-    """A temperature difference in °C as display text."""
-    return units.format_delta(delta_c, temp_unit(), digits)
-
-
-# --------------------------------------------------------------------------------------------
-# Messages (their wording is loadcore.texts')
-# --------------------------------------------------------------------------------------------
-
-
-def show_error(exc: LoadcoreError, what: str | None = None) -> None:
-    """Show a loadcore error inline (and a history report's errors as a table)."""
-    lead = f"{what}: " if what else ""
-    st.error(f"{lead}{exc}")
-    report = getattr(exc, "report", None) if isinstance(exc, HistoryError) else None
-    if report is not None and len(report.issues):
-        st.caption(
-            "The file has errors, so nothing was changed. Each line below names the row, date or "
-            "column and how to fix it; warnings and notes are listed too."
-        )
-        st.dataframe(report.to_frame(), hide_index=True, width="stretch")
-
-
-def attempt(call: Callable[[], Any], what: str | None = None) -> tuple[bool, Any]:
-    """Run a loadcore call; on a LoadcoreError show it inline and return (False, None)."""
-    try:
-        return True, call()
-    except LoadcoreError as exc:
-        show_error(exc, what)
-        return False, None
-
-
-def heat_note(scenario_name: str, temperature_c) -> None:
-    """The public-safety note (``loadcore.texts.heat_note``) for a scenario with days at or
-    above ``loadcore.texts.HEAT_HEALTH_C``."""
-    temps = np.asarray(temperature_c, dtype=float)
-    if temps.size and np.nanmax(temps) >= texts.HEAT_HEALTH_C:
-        text = texts.heat_note(float(np.nanmax(temps)), temp_unit())
-        st.warning(f"**{scenario_name}.** {text}", icon=":material/health_and_safety:")
-
-
-def out_of_range_lines(forecasts, range_c: tuple[float, float]) -> list[str]:
-    """One line per out-of-range day (``loadcore.export.out_of_range_days``, worded by
-    ``loadcore.texts.out_of_range_warning``): scenario, date, temperature, how far outside."""
-    from loadcore.export import out_of_range_days
-
-    unit = temp_unit()
-    table = out_of_range_days(list(forecasts), temp_unit="C")
-    low, high = (float(v) for v in range_c)
-    return [
-        f"{row.scenario}, "
-        + texts.out_of_range_warning(
-            f"{pd.Timestamp(row.date):%a %Y-%m-%d}", float(row.temperature_c), low, high, unit
-        )
-        for row in table.itertuples(index=False)
-    ]
-
-
-def need_model() -> Any:
-    """The fitted model, or stop the page with a pointer to the Model page."""
-    fitted = model()
-    if fitted is None:
-        st.info("No model yet. Fit one on the Model page (or upload a saved model there).")
-        st.page_link("pages/model_fit.py", label="Go to the Model page", icon=":material/tune:")
-        footer()
-        st.stop()
-    return fitted
-
-
-def footer() -> None:
-    """The caution shown at the foot of every page (``loadcore.texts.PLANNING_CAUTION``)."""
-    st.divider()
-    st.caption(f":material/info: {texts.PLANNING_CAUTION}")
-
-
-def as_options(mapping: Mapping[str, str]) -> tuple[list[str], Callable[[str], str]]:
-    """Option values and a format function for a selectbox from a value -> label mapping."""
-    return list(mapping), lambda value: mapping[value]

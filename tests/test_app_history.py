@@ -149,3 +149,21 @@ def test_with_a_model_in_use_the_days_are_coloured_by_the_models_calendar():
     assert "shutdown" not in shown.columns
     for name, count in expected.value_counts().items():
         assert int(shown[name].iloc[0]) == int(count)
+
+
+def test_a_history_file_from_the_command_line_that_cannot_be_read_is_named_and_the_demo_used(
+    tmp_path, monkeypatch
+):
+    """``loadcore app --history FILE`` with a broken file: the session starts on the demo data and
+    the first page says why, in loadcore's words (app/main.py shows what init_state reports)."""
+    bad = tmp_path / "broken.csv"
+    bad.write_bytes(b"date,demand,temperature\n2024-01-01,100,10\n2024-01-01,101,11\n")
+    monkeypatch.setenv("LOADCORE_HISTORY", str(bad))
+    at = new_app(page=None)
+    assert_no_exception(at)
+    errors = texts(at, "error")
+    assert errors and errors[0].startswith(f"{bad} could not be used; the demo data is loaded")
+    with pytest.raises(HistoryError) as raised:
+        read_history(bad, HistorySettings())
+    assert str(raised.value) in errors[0]
+    assert at.session_state["history"].fingerprint == demo_history().fingerprint

@@ -192,12 +192,12 @@ def test_temperature_helpers_round_trip(unit):
     """°F conversion is loadcore's (scenario.c_to_f / f_to_c); the app only chooses the unit."""
     script = f"""
 import streamlit as st
-from app import state
+from app import display
 st.session_state["temp_unit"] = "{unit}"
 values = [-10.0, 0.0, 37.5]
-shown = [float(state.to_display(v)) for v in values]
-back = [float(state.from_display(v)) for v in shown]
-st.session_state["out"] = (shown, back, state.delta_to_display(5.0), state.fmt_temp(100.0))
+shown = [float(display.to_display(v)) for v in values]
+back = [float(display.from_display(v)) for v in shown]
+st.session_state["out"] = (shown, back, display.delta_to_display(5.0), display.fmt_temp(100.0))
 """
     at = AppTest.from_string(script, default_timeout=60)
     at.run()

@@ -6,13 +6,13 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import charts, state
+from app import charts, display, state
 from loadcore.errors import LoadcoreError
 from loadcore.evaluate import backtest
 from loadcore.levels import coverage_column, level_label
 
 st.title("Backtests")
-fitted = state.need_model()
+fitted = display.need_model()
 history = state.history()
 settings = fitted.settings
 st.caption(
@@ -50,7 +50,7 @@ if run:
         )
     except LoadcoreError as exc:
         bar.empty()
-        state.show_error(exc, "The backtest could not be run")
+        display.show_error(exc, "The backtest could not be run")
     else:
         bar.empty()
         state.keep_backtest(history, settings, result)
@@ -58,7 +58,7 @@ if run:
 result = state.kept_backtest(history, settings)
 if result is None:
     st.info("Choose the set-up and press **Run the backtest**.")
-    state.footer()
+    display.footer()
     st.stop()
 
 summary = result.summary
@@ -132,9 +132,9 @@ with st.expander("Every backtest forecast"):
     if "temperature_c" in table.columns:
         table.insert(
             list(table.columns).index("temperature_c"),
-            f"temperature, {state.unit_symbol()}",
-            state.to_display(table.pop("temperature_c").to_numpy(dtype=float)),
+            f"temperature, {display.unit_symbol()}",
+            display.to_display(table.pop("temperature_c").to_numpy(dtype=float)),
         )
     st.dataframe(table, hide_index=True, width="stretch")
 st.caption(summary.get("note", ""))
-state.footer()
+display.footer()

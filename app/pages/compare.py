@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from app import state
+from app import display, state
 from loadcore import units
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure, comparison_summary, forecast_table, to_csv_bytes
@@ -12,7 +12,7 @@ from loadcore.export import comparison_figure, comparison_summary, forecast_tabl
 meeting = state.meeting_view()
 if not meeting:
     st.title("Compare")
-fitted = state.need_model()
+fitted = display.need_model()
 forecasts = state.forecasts_for_set(fitted)
 
 leave = {"on_click": state.set_meeting_view, "args": (False,)}
@@ -22,7 +22,7 @@ if not forecasts:
     st.page_link("pages/scenario.py", label="Build a scenario", icon=":material/thermostat:")
     if meeting:
         st.button("Leave the meeting view", **leave)
-    state.footer()
+    display.footer()
     st.stop()
 
 names = list(forecasts)
@@ -69,14 +69,14 @@ if meeting:
             delta_color="inverse",
             help=f"Highest daily mean, on {row.peak_date:%a %d %b}",
         )
-    lines = state.out_of_range_lines(forecasts.values(), range_c)
+    lines = display.out_of_range_lines(forecasts.values(), range_c)
     if lines:
         st.warning(
             "Outside the fitted temperature range (extrapolated):\n\n"
             + "\n".join(f"- {line}" for line in lines)
         )
     st.button("Leave the meeting view", key="leave_meeting", **leave)
-    state.footer()
+    display.footer()
     st.stop()
 
 left, middle, right = st.columns([2, 2, 1])
@@ -98,9 +98,9 @@ st.caption(
     "the scenario temperatures as known. Triangles mark days outside the fitted temperature range."
 )
 
-lines = state.out_of_range_lines(forecasts.values(), range_c)
+lines = display.out_of_range_lines(forecasts.values(), range_c)
 if lines:
-    low, high = (state.fmt_temp(v) for v in range_c)
+    low, high = (display.fmt_temp(v) for v in range_c)
     st.warning(
         f"{len(lines)} scenario day(s) lie outside the fitted temperature range ({low} to "
         f"{high}); the forecast there is an extrapolation of the fitted response:\n\n"
@@ -109,7 +109,7 @@ if lines:
     )
 for name, scenario in state.scenarios().items():
     if name in forecasts:
-        state.heat_note(name, scenario.temperature_c)
+        display.heat_note(name, scenario.temperature_c)
 
 # --------------------------------------------------------------------------------------------
 # Summary per scenario
@@ -118,7 +118,7 @@ st.subheader("Summary")
 try:
     summary = comparison_summary(list(forecasts.values()), base_name)
 except LoadcoreError as exc:
-    state.show_error(exc)
+    display.show_error(exc)
 else:
     table = summary.rename(
         columns={
@@ -166,7 +166,7 @@ st.dataframe(
     column_config={
         "date": st.column_config.DateColumn(format="YYYY-MM-DD"),
         units.temperature_column(unit): st.column_config.NumberColumn(
-            f"temperature, {state.unit_symbol()}", format="%.1f"
+            f"temperature, {display.unit_symbol()}", format="%.1f"
         ),
     },
     height=360,
@@ -199,4 +199,4 @@ with st.expander("Remove scenarios from the set"):
         state.remove_scenarios(drop)
         st.rerun()
 
-state.footer()
+display.footer()

@@ -4,12 +4,12 @@ from __future__ import annotations
 
 import streamlit as st
 
-from app import charts, state
+from app import charts, display, state
 from loadcore.errors import LoadcoreError
 from loadcore.weather import ensemble_forecast
 
 st.title("Weather ensembles")
-fitted = state.need_model()
+fitted = display.need_model()
 st.caption(
     "Instead of one temperature path, the same calendar window from every past year of the history "
     "(each also shifted a few days earlier and later) is run through the model with its error "
@@ -21,7 +21,10 @@ with st.form("ens_form", border=True):
     days = a.number_input("Days ahead", 1, 90, 30, key="ens_days")
     shift = b.number_input("Shift each past year by up to (days)", 0, 14, 3, key="ens_shift")
     warming = c.number_input(
-        f"Warming added to every trace ({state.unit_symbol()})", value=0.0, step=0.5, key="ens_warm"
+        f"Warming added to every trace ({display.unit_symbol()})",
+        value=0.0,
+        step=0.5,
+        key="ens_warm",
     )
     paths = d.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
     a, b = st.columns(2)
@@ -42,7 +45,7 @@ if run:
             fitted,
             days=int(days),
             shift_days=int(shift),
-            warming_c=state.delta_from_display(warming),
+            warming_c=display.delta_from_display(warming),
             paths_per_trace=int(paths),
             seed=int(seed),
             threshold_mw=float(threshold) if threshold > 0 else None,
@@ -50,7 +53,7 @@ if run:
         )
     except LoadcoreError as exc:
         bar.empty()
-        state.show_error(exc, "The ensemble could not be run")
+        display.show_error(exc, "The ensemble could not be run")
     else:
         bar.empty()
         state.keep_ensemble(fitted, result)
@@ -58,7 +61,7 @@ if run:
 result = state.kept_ensemble(fitted)
 if result is None:
     st.info("Set the window and press **Run the ensemble**.")
-    state.footer()
+    display.footer()
     st.stop()
 
 tail = fitted.history.frame["demand"].iloc[-28:]
@@ -114,4 +117,4 @@ st.markdown(
 
 st.subheader("Day by day")
 st.dataframe(result.daily, hide_index=True, width="stretch", height=320)
-state.footer()
+display.footer()

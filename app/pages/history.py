@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import charts, state
+from app import charts, display, state
 from loadcore.calendar import day_types, overrides_from_text
 from loadcore.errors import LoadcoreError
 from loadcore.files import check_upload_size
@@ -51,7 +51,7 @@ with st.expander("Upload a history file", expanded=False):
     file_unit = left.radio(
         "Temperatures in the file are in",
         ["C", "F"],
-        format_func=state.unit_symbol,
+        format_func=display.unit_symbol,
         horizontal=True,
         key="history_file_unit",
     )
@@ -90,7 +90,7 @@ with st.expander("Upload a history file", expanded=False):
             )
             new = _read_upload(data, hashlib.sha256(data).hexdigest(), settings)
         except LoadcoreError as exc:
-            state.show_error(exc, "The file was not used")
+            display.show_error(exc, "The file was not used")
             st.caption("The history in use, the model and the scenarios are unchanged.")
         else:
             state.use_history(new, f"uploaded file {upload.name}")
@@ -134,12 +134,12 @@ changed = frame[frame["temperature_filled"] | frame["demand"].isna()]
 if len(changed):
     with st.expander(f"Rows changed or missing ({len(changed)})", expanded=False):
         shown = changed.assign(
-            temperature=np.round(state.to_display(changed["temperature_c"].to_numpy()), 1)
+            temperature=np.round(display.to_display(changed["temperature_c"].to_numpy()), 1)
         )[["demand", "temperature", "temperature_filled"]]
         shown = shown.rename(
             columns={
                 "demand": "demand, MW (blank = missing)",
-                "temperature": f"temperature, {state.unit_symbol()}",
+                "temperature": f"temperature, {display.unit_symbol()}",
                 "temperature_filled": "temperature filled in",
             }
         )
@@ -168,7 +168,7 @@ with st.expander("Calendar: special periods", expanded=False):
         try:
             new_spec = dataclasses.replace(spec, overrides=overrides_from_text(override_text))
         except LoadcoreError as exc:
-            state.show_error(exc, "The calendar was not changed")
+            display.show_error(exc, "The calendar was not changed")
         else:
             state.use_calendar(new_spec)
             st.success("Calendar updated. Fit the model again to use it.")
@@ -186,7 +186,7 @@ if fitted is not None:
 st.plotly_chart(
     theme=None,
     figure_or_data=charts.history_figure(
-        frame, types, to_unit=state.to_display, unit=state.unit_symbol()
+        frame, types, to_unit=display.to_display, unit=display.unit_symbol()
     ),
     key="history_chart",
 )
@@ -213,12 +213,12 @@ st.plotly_chart(
         curve_c=curve_c,
         curve_mw=curve_mw,
         range_c=range_c,
-        to_unit=state.to_display,
-        unit=state.unit_symbol(),
+        to_unit=display.to_display,
+        unit=display.unit_symbol(),
     ),
     key="response_chart",
 )
 counts = pd.Series(types).value_counts().rename_axis("day type").rename("days")
 st.dataframe(counts.to_frame().T, width="stretch")
 
-state.footer()
+display.footer()

@@ -7,7 +7,7 @@ import dataclasses
 import numpy as np
 import streamlit as st
 
-from app import charts, state
+from app import cache, charts, display, state
 from loadcore.calendar import parse_holidays
 from loadcore.errors import LoadcoreError
 from loadcore.files import check_upload_size
@@ -99,10 +99,10 @@ with st.form("fit_form", border=True):
         "days) are set on the History page.",
     )
     a, b, c = st.columns(3)
-    unit = state.unit_symbol()
+    unit = display.unit_symbol()
     ref = a.number_input(
         f"Curve centre, {unit}",
-        value=float(np.round(state.to_display(current.terms.reference_temp_c), 1)),
+        value=float(np.round(display.to_display(current.terms.reference_temp_c), 1)),
         step=0.5,
         format="%.1f",
         key="fit_ref",
@@ -110,14 +110,14 @@ with st.form("fit_form", border=True):
     )
     heat = b.number_input(
         f"Heating base, {unit}",
-        value=float(np.round(state.to_display(current.terms.heating_base_c), 1)),
+        value=float(np.round(display.to_display(current.terms.heating_base_c), 1)),
         step=0.5,
         format="%.1f",
         key="fit_hdd",
     )
     cool = c.number_input(
         f"Cooling base, {unit}",
-        value=float(np.round(state.to_display(current.terms.cooling_base_c), 1)),
+        value=float(np.round(display.to_display(current.terms.cooling_base_c), 1)),
         step=0.5,
         format="%.1f",
         key="fit_cdd",
@@ -137,9 +137,9 @@ if go:
         country, subdivision = (None, None) if holidays == "none" else parse_holidays(holiday_code)
         terms = TermSpec(
             response=response,
-            reference_temp_c=float(state.from_display(ref)),
-            heating_base_c=float(state.from_display(heat)),
-            cooling_base_c=float(state.from_display(cool)),
+            reference_temp_c=float(display.from_display(ref)),
+            heating_base_c=float(display.from_display(heat)),
+            cooling_base_c=float(display.from_display(cool)),
             annual_harmonics=int(harmonics),
             trend=bool(trend),
         )
@@ -157,7 +157,7 @@ if go:
             ),
         )
     except LoadcoreError as exc:
-        state.show_error(exc, "These settings cannot be used")
+        display.show_error(exc, "These settings cannot be used")
     else:
         bar = st.progress(0.0, text="Looking for the error model...")
 
@@ -165,10 +165,10 @@ if go:
             bar.progress(min(done / max(total, 1), 1.0), text=f"{done} of {total} done: {text}")
 
         try:
-            fitted = state.fit_model(history, settings, progress=_progress)
+            fitted = cache.fit_model(history, settings, progress=_progress)
         except LoadcoreError as exc:
             bar.empty()
-            state.show_error(exc, "The model could not be fitted")
+            display.show_error(exc, "The model could not be fitted")
             st.caption("The model in use (if any) is unchanged.")
         else:
             bar.progress(1.0, text=f"Done: {fitted.candidates_evaluated} candidates evaluated.")
@@ -185,7 +185,7 @@ with st.expander("Upload a saved model (JSON)"):
             check_upload_size(len(data))
             loaded = load_model(data)
         except LoadcoreError as exc:
-            state.show_error(exc, f"{upload.name} was not used")
+            display.show_error(exc, f"{upload.name} was not used")
         else:
             state.use_model(loaded, source=upload.name)
             history = state.history()
@@ -194,7 +194,7 @@ with st.expander("Upload a saved model (JSON)"):
 fitted = state.model()
 if fitted is None:
     st.info("No model yet: choose the settings and press **Fit the model**.")
-    state.footer()
+    display.footer()
     st.stop()
 
 # --------------------------------------------------------------------------------------------
@@ -278,4 +278,4 @@ st.download_button(
     key="model_download",
     on_click="ignore",
 )
-state.footer()
+display.footer()

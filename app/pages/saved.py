@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from app import state
+from app import cache, display, state
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure, comparison_summary, meeting_brief_html
 from loadcore.library import (
@@ -25,10 +25,10 @@ def _library(path: str) -> ScenarioLibrary:
 
 
 path = str(default_library_path())
-ok, library = state.attempt(lambda: _library(path), "The scenario library could not be opened")
+ok, library = display.attempt(lambda: _library(path), "The scenario library could not be opened")
 if not ok:
     st.caption("Set the environment variable LOADCORE_LIBRARY to a writable file and restart.")
-    state.footer()
+    display.footer()
     st.stop()
 st.caption(f"Library file: `{path}`. Everyone using this file sees the same saved scenarios.")
 fitted = state.model()
@@ -49,13 +49,13 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
         if st.button("Save", type="primary", key="lib_save"):
             scenario = state.scenarios()[pick]
             try:
-                fc = state.forecast(fitted, scenario)
+                fc = cache.forecast(fitted, scenario)
                 entry = entry_from_forecast(
                     fc, scenario=scenario, model=fitted, name=save_name, note=note, author=author
                 )
                 saved = library.save(entry)
             except LoadcoreError as exc:
-                state.show_error(exc, "Not saved")
+                display.show_error(exc, "Not saved")
             else:
                 st.success(f"Saved '{saved.name}' (version {saved.version}).")
 
@@ -64,13 +64,13 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
 # --------------------------------------------------------------------------------------------
 st.subheader("In the library")
 search = st.text_input("Search names, notes and authors", value="", key="lib_search")
-ok, listing = state.attempt(lambda: library.list(search or None))
+ok, listing = display.attempt(lambda: library.list(search or None))
 if not ok:
-    state.footer()
+    display.footer()
     st.stop()
 if not listing:
     st.info("Nothing saved yet." if not search else "No saved scenario matches the search.")
-    state.footer()
+    display.footer()
     st.stop()
 table = pd.DataFrame([item.to_dict() for item in listing])
 st.dataframe(
@@ -84,9 +84,9 @@ st.dataframe(
 # --------------------------------------------------------------------------------------------
 names = [item.name for item in listing]
 chosen = st.selectbox("Saved scenario", names, key="lib_chosen")
-ok, saved = state.attempt(lambda: library.get(chosen))
+ok, saved = display.attempt(lambda: library.get(chosen))
 if not ok:
-    state.footer()
+    display.footer()
     st.stop()
 
 if fitted is not None and not is_current(saved, fitted):
@@ -102,13 +102,13 @@ if fitted is not None and not is_current(saved, fitted):
                 saved.scenario().day_types,
                 model_end=fitted.history_end,
             )
-            fc = state.forecast(fitted, scenario)
+            fc = cache.forecast(fitted, scenario)
             entry = entry_from_forecast(
                 fc, scenario=scenario, model=fitted, note=saved.note, author=saved.author
             )
             library.update(saved.name, expected_version=saved.version, entry=entry)
         except LoadcoreError as exc:
-            state.show_error(exc, "Not re-forecast")
+            display.show_error(exc, "Not re-forecast")
         else:
             st.rerun()
 
@@ -122,24 +122,24 @@ if a.button("Open in the set", key="lib_open", disabled=fitted is None):
             model_end=fitted.history_end,
         )
     except LoadcoreError as exc:
-        state.show_error(exc, "It does not fit the model in use")
+        display.show_error(exc, "It does not fit the model in use")
     else:
         state.put_scenario(scenario)
         st.success(f"'{scenario.name}' is in the set; see the Compare page.")
 with b.popover("Rename"):
     new_name = st.text_input("New name", value=saved.name, key="lib_new_name")
     if st.button("Rename", key="lib_rename"):
-        if state.attempt(lambda: library.rename(saved.name, new_name, saved.version))[0]:
+        if display.attempt(lambda: library.rename(saved.name, new_name, saved.version))[0]:
             st.rerun()
 with c.popover("Duplicate"):
     copy_name = st.text_input("Name of the copy", value=f"{saved.name} copy", key="lib_copy")
     if st.button("Duplicate", key="lib_duplicate"):
-        if state.attempt(lambda: library.duplicate(saved.name, copy_name))[0]:
+        if display.attempt(lambda: library.duplicate(saved.name, copy_name))[0]:
             st.rerun()
 with d.popover("Delete"):
     sure = st.checkbox(f"Yes, delete '{saved.name}'", key="lib_sure")
     if st.button("Delete", key="lib_delete", disabled=not sure):
-        if state.attempt(lambda: library.delete(saved.name, saved.version))[0]:
+        if display.attempt(lambda: library.delete(saved.name, saved.version))[0]:
             st.rerun()
 
 st.caption(
@@ -153,7 +153,7 @@ st.caption(
 st.subheader("Compare saved scenarios")
 picked = st.multiselect("Saved scenarios to compare", names, default=[chosen], key="lib_cmp")
 if picked:
-    ok, entries = state.attempt(lambda: [library.get(n) for n in picked])
+    ok, entries = display.attempt(lambda: [library.get(n) for n in picked])
     if ok:
         stored = [e.to_forecast() for e in entries]
         tail = entries[0].history_tail()["demand"]
@@ -168,12 +168,12 @@ if picked:
             key="lib_chart",
         )
         base = st.selectbox("Base scenario", picked, key="lib_base")
-        ok, summary = state.attempt(lambda: comparison_summary(stored, base))
+        ok, summary = display.attempt(lambda: comparison_summary(stored, base))
         if ok:
             st.dataframe(summary.drop(columns=["sum_unit"]), hide_index=True, width="stretch")
         period = entries[0].context.get("history_period") or []
         period_text = f"History {period[0]} to {period[1]}" if len(period) == 2 else ""
-        ok, html = state.attempt(
+        ok, html = display.attempt(
             lambda: meeting_brief_html(
                 stored,
                 history_tail=entries[0].history_tail(),
@@ -199,4 +199,4 @@ if picked:
                 on_click="ignore",
             )
 
-state.footer()
+display.footer()

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import charts, state
+from app import cache, charts, display, state
 from loadcore.calendar import BASE_TYPE
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure
@@ -28,15 +28,15 @@ from loadcore.scenario import (
 )
 
 st.title("Build a scenario")
-fitted = state.need_model()
-unit = state.unit_symbol()
+fitted = display.need_model()
+unit = display.unit_symbol()
 start = fitted.history_end + pd.Timedelta(days=1)
 low_c, high_c = (float(v) for v in fitted.temperature_range_c)
 
 st.markdown(
     f"The scenario starts on **{start.date():%A %d %B %Y}**, the day after the history ends. "
-    f"The model was fitted on daily highs from {state.fmt_temp(low_c)} to "
-    f"{state.fmt_temp(high_c)}; days outside that range are flagged."
+    f"The model was fitted on daily highs from {display.fmt_temp(low_c)} to "
+    f"{display.fmt_temp(high_c)}; days outside that range are flagged."
 )
 
 left, right = st.columns([2, 1])
@@ -68,7 +68,7 @@ def _days_ok(days: int) -> bool:
     try:
         make_scenario("check", constant_path(start, int(days), 0.0), max_days=MAX_DAYS)
     except LoadcoreError as exc:
-        state.show_error(exc)
+        display.show_error(exc)
         return False
     return True
 
@@ -90,12 +90,12 @@ def _from_tools(days: int) -> pd.Series | None:
         if base_kind == "constant":
             value = st.number_input(
                 f"Temperature, {unit}",
-                value=float(np.round(state.to_display(25.0), 1)),
+                value=float(np.round(display.to_display(25.0), 1)),
                 step=0.5,
                 format="%.1f",
                 key="scn_const",
             )
-            path = constant_path(start, days, float(state.from_display(value)))
+            path = constant_path(start, days, float(display.from_display(value)))
         elif base_kind == "copy":
             default = (start - pd.DateOffset(years=1)).date()
             first = history.start.date()
@@ -115,7 +115,7 @@ def _from_tools(days: int) -> pd.Series | None:
             wave = st.checkbox("Add a heat wave", value=True, key="scn_hw_on")
             peak = st.number_input(
                 f"Peak daily high, {unit}",
-                value=float(np.round(state.to_display(41.0), 1)),
+                value=float(np.round(display.to_display(41.0), 1)),
                 step=0.5,
                 format="%.1f",
                 key="scn_hw_peak",
@@ -129,7 +129,7 @@ def _from_tools(days: int) -> pd.Series | None:
             snap = st.checkbox("Add a cold snap", value=False, key="scn_cs_on")
             trough = st.number_input(
                 f"Lowest daily high, {unit}",
-                value=float(np.round(state.to_display(-8.0), 1)),
+                value=float(np.round(display.to_display(-8.0), 1)),
                 step=0.5,
                 format="%.1f",
                 key="scn_cs_low",
@@ -148,16 +148,20 @@ def _from_tools(days: int) -> pd.Series | None:
         )
         if wave:
             path = heat_wave(
-                path, float(state.from_display(peak)), int(hw_len), int(hw_ramp), int(hw_day) - 1
+                path, float(display.from_display(peak)), int(hw_len), int(hw_ramp), int(hw_day) - 1
             )
         if snap:
             path = cold_snap(
-                path, float(state.from_display(trough)), int(cs_len), int(cs_ramp), int(cs_day) - 1
+                path,
+                float(display.from_display(trough)),
+                int(cs_len),
+                int(cs_ramp),
+                int(cs_day) - 1,
             )
         if shift:
-            path = shift_path(path, state.delta_from_display(shift))
+            path = shift_path(path, display.delta_from_display(shift))
     except LoadcoreError as exc:
-        state.show_error(exc, "The path tools could not build this path")
+        display.show_error(exc, "The path tools could not build this path")
         return None
     return path
 
@@ -200,7 +204,7 @@ def _from_file() -> Scenario | None:
             fitted.history_end.date().isoformat(),
         )
     except LoadcoreError as exc:
-        state.show_error(exc, f"{upload.name} was not used")
+        display.show_error(exc, f"{upload.name} was not used")
         return None
 
 
@@ -222,15 +226,15 @@ else:
         base_temps, base_types = picked.path(), list(picked.day_types or [])
 
 if base_temps is None:
-    state.footer()
+    display.footer()
     st.stop()
 
 dates = pd.DatetimeIndex(base_temps.index)
 try:
     calendar = [str(t) for t in fitted.calendar_types(dates)]
 except LoadcoreError as exc:
-    state.show_error(exc)
-    state.footer()
+    display.show_error(exc)
+    display.footer()
     st.stop()
 start_types = list(fill_blank_day_types(base_types or None, calendar))
 base_type = BASE_TYPE[fitted.settings.calendar.scheme]
@@ -250,7 +254,7 @@ table = pd.DataFrame(
     {
         "date": dates.date,
         "weekday": dates.strftime("%a"),
-        "temperature": np.asarray(state.to_display(base_temps.to_numpy()), float),
+        "temperature": np.asarray(display.to_display(base_temps.to_numpy()), float),
         "day_type": start_types,
     }
 )
@@ -278,18 +282,18 @@ edited = st.data_editor(
 temps_display = pd.to_numeric(edited["temperature"], errors="coerce").to_numpy(dtype=float)
 raw = pd.Series(edited["temperature"].to_numpy(dtype=object), index=dates, dtype=object)
 finite = np.isfinite(temps_display)
-raw[finite] = np.asarray(state.from_display(temps_display[finite]), dtype=float)
+raw[finite] = np.asarray(display.from_display(temps_display[finite]), dtype=float)
 chosen_types = [
     "" if (t is None or str(t) == cal) else str(t)
     for t, cal in zip(edited["day_type"].to_numpy(dtype=object), calendar, strict=True)
 ]
 try:
     scenario = make_scenario(name, raw, chosen_types, model_end=fitted.history_end)
-    fc = state.forecast(fitted, scenario)
+    fc = cache.forecast(fitted, scenario)
 except LoadcoreError as exc:
-    state.show_error(exc, "This scenario cannot be forecast yet")
+    display.show_error(exc, "This scenario cannot be forecast yet")
     st.caption("Nothing in the set has changed.")
-    state.footer()
+    display.footer()
     st.stop()
 
 st.plotly_chart(
@@ -298,15 +302,15 @@ st.plotly_chart(
         scenario.dates,
         scenario.temperature_c,
         fitted.temperature_range_c,
-        to_unit=state.to_display,
+        to_unit=display.to_display,
         unit=unit,
     ),
     key="scn_path_chart",
 )
-state.heat_note(scenario.name, scenario.temperature_c)
+display.heat_note(scenario.name, scenario.temperature_c)
 outside = fc.frame[fc.frame["out_of_range"].astype(bool)]
 if len(outside):
-    lines = state.out_of_range_lines([fc], fitted.temperature_range_c)
+    lines = display.out_of_range_lines([fc], fitted.temperature_range_c)
     st.warning(
         f"{len(outside)} day(s) lie outside the fitted temperature range; the forecast there is "
         "an extrapolation:\n\n" + "\n".join(f"- {line}" for line in lines),
@@ -340,4 +344,4 @@ if st.button(label, type="primary", key="scn_add"):
     )
     st.page_link("pages/compare.py", label="Compare the set", icon=":material/stacked_line_chart:")
 
-state.footer()
+display.footer()
