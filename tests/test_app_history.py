@@ -93,6 +93,24 @@ def test_a_fahrenheit_upload_with_other_column_names_replaces_the_history():
     assert "fahrenheit.csv" in at.session_state["history_source"]
 
 
+def test_an_hourly_upload_with_an_hour_column():
+    """A date column and an hour-ending column (1-24, common practice, no source); the page's
+    hour field gives the same history as the reader with ``hour_col``."""
+    days = pd.read_csv(DEMO_CSV).iloc[-400:].reset_index(drop=True)
+    rows = days.loc[days.index.repeat(24)].reset_index(drop=True)
+    rows.insert(1, "HE", list(range(1, 25)) * len(days))
+    rows["demand"] = (rows["demand"] * (0.8 + 0.2 * rows["HE"] / 24)).round(1)
+    data = rows.to_csv(index=False).encode()
+    at = new_app(page="pages/history.py")
+    _upload(at, data, "hourly.csv")
+    assert any("--hour-col NAME" in e for e in texts(at, "error"))
+    _upload(at, data, "hourly.csv", history_hour_col="HE")
+    assert_no_exception(at)
+    used = at.session_state["history"]
+    assert used.fingerprint == read_history(data, HistorySettings(hour_col="HE")).fingerprint
+    assert used.has_minimum
+
+
 def test_a_shutdown_override_becomes_its_own_day_type():
     at = new_app(page="pages/history.py", extra={"model": None})  # no model: the next fit's days
     at.text_area(key="cal_overrides").set_value("2024-07-01..2024-07-05 shutdown Mill shutdown")

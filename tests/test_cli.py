@@ -93,6 +93,21 @@ def test_check_column_options_reach_the_reader(tmp_path, capsys):
     assert code == 0, capsys.readouterr().out
 
 
+def test_check_hour_and_minimum_column_options_reach_the_reader(tmp_path, capsys):
+    """An hour-beginning file (0-23, common practice, no source) and a daily minimum column."""
+    days = pd.read_csv(DEMO).iloc[-400:].reset_index(drop=True)
+    rows = days.loc[days.index.repeat(24)].reset_index(drop=True)
+    rows.insert(1, "hr", list(range(24)) * len(days))
+    rows["tmin"] = rows["temperature"] - 6
+    path = tmp_path / "hourly.csv"
+    rows.to_csv(path, index=False)
+    assert main(["check", str(path)]) == 1
+    assert "--hour-col NAME" in capsys.readouterr().out
+    assert main(["check", str(path), "--hour-col", "hr", "--temp-min-col", "tmin"]) == 0
+    out = capsys.readouterr().out
+    assert "hour numbers 0-23" in out and "hour beginning" in out
+
+
 def test_check_subprocess_exit_codes(tmp_path):
     good = _run("check", str(DEMO))
     assert good.returncode == 0, good.stderr

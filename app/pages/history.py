@@ -69,11 +69,28 @@ with st.expander("Upload a history file", expanded=False):
         key="history_subdaily",
         help="Hourly or half-hourly files are turned into one row a day: the peak or the total.",
     )
-    date_format = st.text_input(
+    left, middle, right = st.columns(3)
+    date_format = left.text_input(
         "Date format (leave blank to detect)",
         value="",
         placeholder="e.g. %d/%m/%Y",
         key="history_date_format",
+    )
+    hour_col = middle.text_input(
+        "Hour column (if the hour has its own column)",
+        value="",
+        placeholder="e.g. hour",
+        key="history_hour_col",
+        help="Hour numbers 1-24 (hour ending) or 0-23 (hour beginning), detected from the "
+        "values, or a time of day such as 13:00.",
+    )
+    temp_min_col = right.text_input(
+        "Minimum temperature column (optional)",
+        value="",
+        placeholder="e.g. tmin",
+        key="history_temp_min_col",
+        help="For a daily file with the day's minimum beside its maximum; hourly files give "
+        "it without this.",
     )
     if st.button("Check and use this file", type="primary", disabled=upload is None):
         data = upload.getvalue()
@@ -87,6 +104,8 @@ with st.expander("Upload a history file", expanded=False):
                 temp_kind=temp_kind,
                 subdaily_demand=subdaily,
                 date_format=date_format.strip() or None,
+                hour_col=hour_col.strip() or None,
+                temp_min_col=temp_min_col.strip() or None,
             )
             new = _read_upload(data, hashlib.sha256(data).hexdigest(), settings)
         except LoadcoreError as exc:

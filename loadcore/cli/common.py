@@ -155,6 +155,20 @@ def history_options() -> argparse.ArgumentParser:
         "--temp-col", default=None, metavar="NAME", help="temperature column (temperature)"
     )
     group.add_argument(
+        "--hour-col",
+        default=None,
+        metavar="NAME",
+        help="column with the hour (1-24 hour ending or 0-23 hour beginning, detected) or the "
+        "time of day (HH:MM), when the date column holds only the date",
+    )
+    group.add_argument(
+        "--temp-min-col",
+        default=None,
+        metavar="NAME",
+        help="column with the daily minimum temperature, in a daily file (sub-daily readings "
+        "give it without this)",
+    )
+    group.add_argument(
         "--temp-unit",
         type=unit_arg,
         default=None,
@@ -184,6 +198,8 @@ def history_settings(args: argparse.Namespace):
         "date_col": args.date_col,
         "demand_col": args.demand_col,
         "temp_col": args.temp_col,
+        "hour_col": args.hour_col,
+        "temp_min_col": args.temp_min_col,
         "temp_unit": args.temp_unit,
         "subdaily_demand": args.subdaily,
         "date_format": args.date_format,

@@ -8,10 +8,11 @@ is ignored, is listed in the :class:`HistoryReport`; nothing is dropped silently
 Inside loadcore temperatures are in °C; a file in °F is converted here, at the edge.
 
 Modules, in the order the data flows: ``settings`` (:class:`HistorySettings`), ``reading``
-(source -> raw columns), ``parsing`` (dates, numbers), ``daily`` (sub-daily to daily, the complete
-daily table), ``table`` (:class:`History`, the fingerprint, :func:`history_from_frame`), ``check``
-(the pipeline, :func:`check_history`, :func:`read_history`); ``report`` (:class:`Issue`,
-:class:`HistoryReport`) is shared by all of them.
+(source -> raw columns), ``parsing`` (dates, numbers), ``hours`` (an hour or time-of-day
+column), ``subdaily`` (sub-daily readings to daily values, daylight-saving days), ``daily`` (one
+row per date, the complete daily table), ``table`` (:class:`History`, the fingerprint,
+:func:`history_from_frame`), ``check`` (the pipeline, :func:`check_history`,
+:func:`read_history`); ``report`` (:class:`Issue`, :class:`HistoryReport`) is shared by all.
 """
 
 from loadcore.history.check import check_history, read_history

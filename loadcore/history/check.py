@@ -19,6 +19,7 @@ import pandas as pd
 from loadcore import units
 from loadcore.errors import HistoryError
 from loadcore.history.daily import complete_daily, to_daily
+from loadcore.history.hours import within_day
 from loadcore.history.parsing import parse_dates, parse_numbers
 from loadcore.history.reading import RawColumns, read_raw, source_label
 from loadcore.history.report import Collector, HistoryReport, Issue, iso_date
@@ -42,12 +43,46 @@ def _check_values(
     raw: RawColumns,
     stamps: pd.Series,
     demand: np.ndarray,
-    temp: np.ndarray,
+    temps: list[tuple[np.ndarray, str]],
     settings: HistorySettings,
     issues: Collector,
 ) -> None:
-    """Temperatures (°C) outside the plausible range and demand at or below zero are errors."""
-    _, demand_name, temp_name = raw.names
+    """Temperatures (°C) outside the plausible range and demand at or below zero are errors.
+
+    ``temps`` holds each temperature column in °C with its name in the file.
+    """
+    demand_name = raw.names[1]
+    for temp, temp_name in temps:
+        _check_temperatures(raw, stamps, temp, temp_name, settings, issues)
+    nonpositive = np.flatnonzero(~np.isnan(demand) & (demand <= 0))
+    if len(nonpositive):
+        issues.many(
+            "error",
+            lambda i: (
+                f"The demand is {demand[nonpositive[i]]:g}; it must be above zero because the "
+                "model works with the logarithm of demand",
+                {
+                    "row": int(raw.rows[nonpositive[i]]),
+                    "date": iso_date(stamps.iloc[nonpositive[i]]),
+                },
+            ),
+            len(nonpositive),
+            kind="zero or negative demand values",
+            fix="Correct the value, or leave the cell blank to mark the day as missing",
+            column=demand_name,
+            rows=[int(raw.rows[p]) for p in nonpositive],
+        )
+
+
+def _check_temperatures(
+    raw: RawColumns,
+    stamps: pd.Series,
+    temp: np.ndarray,
+    temp_name: str,
+    settings: HistorySettings,
+    issues: Collector,
+) -> None:
+    """Temperatures (°C) outside the plausible range are errors."""
     implausible = np.flatnonzero(~np.isnan(temp) & ((temp < TEMP_MIN_C) | (temp > TEMP_MAX_C)))
     if len(implausible):
         hint = (
@@ -71,24 +106,56 @@ def _check_values(
             column=temp_name,
             rows=[int(raw.rows[p]) for p in implausible],
         )
-    nonpositive = np.flatnonzero(~np.isnan(demand) & (demand <= 0))
-    if len(nonpositive):
+
+
+def _check_minimum(
+    raw: RawColumns,
+    stamps: pd.Series,
+    temp: np.ndarray,
+    temp_min: np.ndarray,
+    issues: Collector,
+) -> None:
+    """A minimum temperature above the row's temperature is an error (columns swapped?)."""
+    # Half a degree allows for rounding in files that store whole degrees (our choice).
+    above = np.flatnonzero(~np.isnan(temp) & ~np.isnan(temp_min) & (temp_min > temp + 0.5))
+    if len(above):
         issues.many(
             "error",
             lambda i: (
-                f"The demand is {demand[nonpositive[i]]:g}; it must be above zero because the "
-                "model works with the logarithm of demand",
-                {
-                    "row": int(raw.rows[nonpositive[i]]),
-                    "date": iso_date(stamps.iloc[nonpositive[i]]),
-                },
+                f"The minimum temperature {temp_min[above[i]]:.1f} °C is above the temperature "
+                f"{temp[above[i]]:.1f} °C",
+                {"row": int(raw.rows[above[i]]), "date": iso_date(stamps.iloc[above[i]])},
             ),
-            len(nonpositive),
-            kind="zero or negative demand values",
-            fix="Correct the value, or leave the cell blank to mark the day as missing",
-            column=demand_name,
-            rows=[int(raw.rows[p]) for p in nonpositive],
+            len(above),
+            kind="minimum temperatures above the temperature",
+            fix="Check that the minimum-temperature setting names the column of daily minima "
+            "and the temperature setting the column of maxima (or means)",
+            column=raw.temp_min_name,
+            rows=[int(raw.rows[p]) for p in above],
         )
+
+
+def _place_in_day(
+    raw: RawColumns, stamps: pd.Series, issues: Collector
+) -> tuple[pd.Series, pd.Series]:
+    """Timestamps from the date column and the hour column, and each row's date.
+
+    The date column must then hold whole dates; an hour beyond the day (hour 25 of an autumn
+    daylight-saving day) keeps the date its row gives.
+    """
+    dates = stamps
+    timed = (dates.notna() & (dates != dates.dt.normalize())).to_numpy()
+    if timed.any():
+        issues.add(
+            "error",
+            "The date column already carries a time of day, and an hour column is named too",
+            row=int(raw.rows[np.flatnonzero(timed)[0]]),
+            column=raw.names[0],
+            fix="Leave the hour column setting empty when the dates carry their times",
+        )
+        return stamps, dates
+    place = within_day(raw.hour, raw.rows, dates, raw.hour_name, issues)
+    return dates + pd.to_timedelta(place.offset), dates
 
 
 def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.DataFrame | None]:
@@ -104,17 +171,38 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
         return issues.report(), None
     _, demand_name, temp_name = raw.names
     stamps = parse_dates(raw, settings, issues)
+    day = None
+    if raw.hour is not None:
+        stamps, day = _place_in_day(raw, stamps, issues)
     demand = parse_numbers(raw.demand, raw, stamps, demand_name, "demand", issues)
-    temp = parse_numbers(raw.temperature, raw, stamps, temp_name, "temperature", issues)
-    temp = _to_celsius(temp, settings)
-    _check_values(raw, stamps, demand, temp, settings, issues)  # rows still in file order
+    temp = _to_celsius(
+        parse_numbers(raw.temperature, raw, stamps, temp_name, "temperature", issues), settings
+    )
+    temps = [(temp, temp_name)]
+    temp_min = None
+    if raw.temp_min is not None:
+        label = "minimum temperature"
+        temp_min = _to_celsius(
+            parse_numbers(raw.temp_min, raw, stamps, raw.temp_min_name, label, issues), settings
+        )
+        temps.append((temp_min, raw.temp_min_name))
+        _check_minimum(raw, stamps, temp, temp_min, issues)
+    _check_values(raw, stamps, demand, temps, settings, issues)  # rows still in file order
 
     valid = stamps.notna().to_numpy()
     if not valid.any():
         return issues.report(), None
-    stamps_v = stamps[valid].reset_index(drop=True)
     daily = to_daily(
-        stamps_v, raw.rows[valid], demand[valid], temp[valid], settings, raw.names, issues
+        stamps[valid].reset_index(drop=True),
+        raw.rows[valid],
+        demand[valid],
+        temp[valid],
+        settings,
+        raw.names,
+        issues,
+        day=None if day is None else day[valid].reset_index(drop=True),
+        temp_min=None if temp_min is None else temp_min[valid],
+        other_columns=raw.unused,
     )
     if issues.has_errors:
         return issues.report(), None

@@ -1,11 +1,11 @@
 """From parsed rows to the complete daily table.
 
-Sub-daily readings (hourly, half-hourly, ...) are aggregated to one value per day: demand as the
-daily peak or total, temperature as the daily maximum or mean (per :class:`HistorySettings`).
-Daily rows keep one row per date; repeated dates are errors. The daily table is then completed:
+Sub-daily readings (hourly, half-hourly, ...) are aggregated to one value per day by
+:mod:`loadcore.history.subdaily`. Daily rows keep one row per date; repeated dates are errors. The daily table is then completed:
 leading and trailing days lacking demand or temperature are trimmed, missing days are added,
 short temperature gaps are filled by straight-line interpolation, and gaps too long to use are
-errors that say where to cut the history.
+errors that say where to cut the history. A daily minimum temperature, when the source gives
+one, is filled the same way over short gaps and left out (with a warning) over long ones.
 """
 
 from __future__ import annotations
@@ -15,6 +15,7 @@ import pandas as pd
 
 from loadcore.history.report import MAX_LISTED, Collector, iso_date
 from loadcore.history.settings import HistorySettings
+from loadcore.history.subdaily import aggregate, repeats_like_subdaily, subdaily_without_time
 
 # A year of daily history is needed to see the temperature response across all seasons
 # (common practice, no source).
@@ -40,6 +41,10 @@ def to_daily(
     settings: HistorySettings,
     names: tuple[str, str, str],
     issues: Collector,
+    *,
+    day: pd.Series | None = None,
+    temp_min: np.ndarray | None = None,
+    other_columns: tuple[str, ...] = (),
 ) -> pd.DataFrame:
     """One row per date from the rows with a readable date, in file order.
 
@@ -51,15 +56,24 @@ def to_daily(
         The rows' 1-based data row numbers in the file.
     demand, temp : numpy.ndarray
         Demand in the file's unit and temperature in °C (NaN where blank).
+    day : pandas.Series, optional
+        Each row's date when it comes from a date column beside an hour column (an extra hour
+        of an autumn daylight-saving day may stamp the next midnight); else the stamp's date.
+    temp_min : numpy.ndarray, optional
+        A minimum-temperature column in °C.
+    other_columns : tuple of str
+        The file's unused columns (named in the hint when dates repeat without times).
 
     Returns
     -------
     pandas.DataFrame
-        Indexed by date (sorted, possibly with missing days), columns ``demand`` and
-        ``temperature_c``. Check ``issues.has_errors`` before using it.
+        Indexed by date (sorted, possibly with missing days), columns ``demand``,
+        ``temperature_c`` and, from sub-daily readings or a minimum column,
+        ``temperature_min_c``. Check ``issues.has_errors`` before using it.
     """
     date_name = names[0]
-    day = stamps.dt.normalize()
+    if day is None:
+        day = stamps.dt.normalize()
     counts = day.value_counts()
     typical = int(counts.mode().iloc[0])
     if not stamps.is_monotonic_increasing:
@@ -70,8 +84,14 @@ def to_daily(
             fix="Nothing to do",
         )
     has_time = bool((stamps != day).any())
+    columns = {"date": day, "demand": demand, "temperature_c": temp}
+    if temp_min is not None:
+        columns["temperature_min_c"] = temp_min
     if typical > 1 and has_time:
-        return _aggregate(day, stamps, rows, demand, temp, typical, settings, names, issues)
+        return aggregate(pd.DataFrame(columns), stamps, rows, typical, settings, names, issues)
+    if not has_time and repeats_like_subdaily(counts, typical):
+        subdaily_without_time(typical, date_name, other_columns, issues)
+        return pd.DataFrame(columns={"demand": [], "temperature_c": []})
     dup_days = counts[counts > 1]
     if len(dup_days):
         dup_list = sorted(dup_days.index)
@@ -98,80 +118,7 @@ def to_daily(
             column=date_name,
             fix="Nothing to do",
         )
-    return (
-        pd.DataFrame({"date": day, "demand": demand, "temperature_c": temp})
-        .groupby("date", sort=True)
-        .first()
-    )
-
-
-def _aggregate(
-    day: pd.Series,
-    stamps: pd.Series,
-    rows: np.ndarray,
-    demand: np.ndarray,
-    temp: np.ndarray,
-    typical: int,
-    settings: HistorySettings,
-    names: tuple[str, str, str],
-    issues: Collector,
-) -> pd.DataFrame:
-    """Sub-daily rows to daily values, with the issues that go with it."""
-    date_name, demand_name, temp_name = names
-    table = pd.DataFrame({"date": day, "stamp": stamps, "demand": demand, "temperature_c": temp})
-    dup = table["stamp"].duplicated(keep=False).to_numpy()
-    if dup.any():
-        dup_pos = np.flatnonzero(dup)
-        issues.many(
-            "warning",
-            lambda i: (
-                f"The time {stamps.iloc[dup_pos[i]]:%Y-%m-%d %H:%M} appears more than once; all "
-                "its readings were used in the daily value",
-                {"row": int(rows[dup_pos[i]]), "date": iso_date(day.iloc[dup_pos[i]])},
-            ),
-            len(dup_pos),
-            kind="repeated times",
-            fix="Check for a daylight-saving change or duplicated rows",
-            column=date_name,
-            rows=[int(rows[p]) for p in dup_pos],
-        )
-    grouped = table.groupby("date", sort=True)
-    if settings.subdaily_demand == "peak":
-        demand_daily = grouped["demand"].max()
-        how = "the daily peak (maximum)"
-    else:
-        demand_daily = grouped["demand"].sum(min_count=1)
-        how = "the daily total (sum)"
-    if settings.temp_kind == "max":
-        temp_daily = grouped["temperature_c"].max()
-        temp_how = "the daily maximum"
-    else:
-        temp_daily = grouped["temperature_c"].mean()
-        temp_how = "the daily mean"
-    issues.add(
-        "info",
-        f"The file has {typical} readings on a typical day; they were aggregated to one value per "
-        f"day: demand as {how}, temperature as {temp_how}",
-        fix="Set subdaily_demand to 'peak' or 'total' to choose how demand is aggregated",
-    )
-    present = grouped["demand"].count()
-    short = present[present < typical]
-    if len(short):
-        short_days = list(short.index)
-        issues.many(
-            "warning",
-            lambda i: (
-                f"This day has {int(short.iloc[i])} demand readings instead of the usual {typical}; "
-                "its daily value may be "
-                + ("too low" if settings.subdaily_demand == "total" else "understated"),
-                {"date": iso_date(short_days[i])},
-            ),
-            len(short_days),
-            kind="days with fewer readings than usual",
-            fix="Check the source for missing intervals on these days",
-            column=demand_name,
-        )
-    return pd.DataFrame({"demand": demand_daily, "temperature_c": temp_daily})
+    return pd.DataFrame(columns).groupby("date", sort=True).first()
 
 
 def _cut_advice(index: pd.DatetimeIndex, start: int, end: int) -> str:
@@ -308,4 +255,36 @@ def complete_daily(
     frame["demand"] = frame["demand"].astype(float)
     frame["temperature_c"] = frame["temperature_c"].astype(float)
     frame.index = pd.DatetimeIndex(frame.index, freq="D", name="date")
-    return frame[["demand", "temperature_c", "temperature_filled"]]
+    kept = ["demand", "temperature_c", "temperature_filled"]
+    if "temperature_min_c" in frame and _fill_minimum(frame, settings, issues):
+        kept.append("temperature_min_c")
+    return frame[kept]
+
+
+def _fill_minimum(frame: pd.DataFrame, settings: HistorySettings, issues: Collector) -> bool:
+    """Fill short gaps of the daily minimum temperature in place; False (with a warning) when a
+    gap is too long to fill, and the minimum is then not used."""
+    minimum = frame["temperature_min_c"].astype(float)
+    missing = minimum.isna().to_numpy()
+    long_runs = [(a, b) for a, b in runs(missing) if b - a + 1 > settings.max_temp_gap_days]
+    if long_runs or missing.all():
+        a, b = long_runs[0] if long_runs else (0, len(missing) - 1)
+        issues.add(
+            "warning",
+            f"The minimum temperature is missing for {b - a + 1} days in a row (from "
+            f"{frame.index[a]:%Y-%m-%d}), more than the {settings.max_temp_gap_days} that can be "
+            "filled; the history is used without its daily minimum",
+            date=f"{frame.index[a]:%Y-%m-%d}",
+            fix="Fill the gap if the model should use the daily minimum",
+        )
+        return False
+    if missing.any():
+        issues.add(
+            "info",
+            f"The minimum temperature is missing on {int(missing.sum())} day(s); filled by "
+            "straight-line interpolation between the neighbouring days",
+            fix="Nothing to do",
+        )
+        minimum = minimum.interpolate(method="linear", limit_direction="both")
+    frame["temperature_min_c"] = np.minimum(minimum.to_numpy(), frame["temperature_c"].to_numpy())
+    return True

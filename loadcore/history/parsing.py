@@ -148,7 +148,10 @@ def parse_dates(raw: RawColumns, settings: HistorySettings, issues: Collector) -
         return stamps
     text = values.astype(str)
     blank = text.str.strip().eq("")
-    filled = text[~blank]
+    # Sub-daily files with an hour column repeat every date many times: each distinct text is
+    # parsed once and the result spread back to its rows.
+    codes, distinct = pd.factorize(text[~blank])
+    filled = pd.Series(np.asarray(distinct, dtype=object), dtype=object)
     chosen: str
     if settings.date_format:
         try:
@@ -202,7 +205,7 @@ def parse_dates(raw: RawColumns, settings: HistorySettings, issues: Collector) -
                 pd.Series(pd.NaT, index=filled.index, dtype="datetime64[ns]"),
             )
     stamps = pd.Series(pd.NaT, index=values.index, dtype="datetime64[ns]")
-    stamps.loc[parsed_filled.index] = parsed_filled
+    stamps.loc[~blank] = parsed_filled.to_numpy(dtype="datetime64[ns]")[codes]
     bad = (~blank & stamps.isna()).to_numpy()
     _report_bad_dates(raw, blank.to_numpy(), bad, column, issues, text=text, chosen=chosen)
     if chosen and not bad.all():
@@ -264,6 +267,12 @@ def parse_numbers(
     """Floats, NaN for blanks and bad cells (each bad cell an error naming row, date, column)."""
     if pd.api.types.is_numeric_dtype(values):
         return np.array(pd.to_numeric(values, errors="coerce"), dtype=float)
+    try:  # fastest path: every cell is a plain finite number (most clean files)
+        plain = np.asarray(values.to_numpy(dtype=object), dtype=float)
+        if np.isfinite(plain).all():
+            return plain
+    except (ValueError, TypeError):
+        pass
     text = pd.Series([str(v).strip() for v in values], index=values.index, dtype=object)
     blank = np.fromiter((v.lower() in _MISSING_TOKENS for v in text), dtype=bool, count=len(text))
     try:  # fast path: every filled cell is a plain number

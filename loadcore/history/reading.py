@@ -1,15 +1,17 @@
-"""Reading a history source into its three raw columns, before any parsing.
+"""Reading a history source into its raw columns, before any parsing.
 
 A source is a path, a file-like object, bytes, CSV text (a ``str`` holding a line break) or a
 DataFrame. Files go through the one file policy of :mod:`loadcore.files` (regular files only, a
 size cap before reading, one list of encodings, spreadsheets and binary data named); then the
 delimiter (comma, semicolon, tab or pipe) and the header line are found and the date, demand and
-temperature columns picked out by name, ignoring case and surrounding spaces.
+temperature columns (and the hour and minimum-temperature columns when the settings name them)
+picked out by name, ignoring case and surrounding spaces.
 """
 
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import os
 from collections.abc import Sequence
@@ -29,13 +31,44 @@ DELIMITERS = (",", ";", "\t", "|")
 
 @dataclass(frozen=True)
 class RawColumns:
-    """The three wanted columns as read, before parsing, with their file row numbers."""
+    """The wanted columns as read, before parsing, with their file row numbers.
+
+    ``hour`` and ``temp_min`` are present only when :class:`HistorySettings` names them
+    (``hour_col``, ``temp_min_col``); ``unused`` lists the file's other columns, for hints.
+    """
 
     rows: np.ndarray  # 1-based data row numbers
     date: pd.Series  # str or datetime64
     demand: pd.Series  # str or numeric
     temperature: pd.Series  # str or numeric
     names: tuple[str, str, str]  # column names as found in the file
+    hour: pd.Series | None = None  # str or numeric
+    hour_name: str = ""
+    temp_min: pd.Series | None = None  # str or numeric
+    temp_min_name: str = ""
+    unused: tuple[str, ...] = ()
+
+
+def _raw_columns(
+    rows: np.ndarray, columns: list[pd.Series], names: list[str], settings: HistorySettings
+) -> RawColumns:
+    """RawColumns from the columns of :meth:`HistorySettings.column_settings`, in that order."""
+    by_setting = dict(
+        zip(settings.column_settings(), zip(columns, names, strict=True), strict=True)
+    )
+    hour, hour_name = by_setting.get("hour_col", (None, ""))
+    temp_min, temp_min_name = by_setting.get("temp_min_col", (None, ""))
+    return RawColumns(
+        rows=rows,
+        date=columns[0],
+        demand=columns[1],
+        temperature=columns[2],
+        names=(names[0], names[1], names[2]),
+        hour=hour,
+        hour_name=hour_name,
+        temp_min=temp_min,
+        temp_min_name=temp_min_name,
+    )
 
 
 def source_label(source: Any) -> str:
@@ -93,7 +126,8 @@ def _detect_delimiter(lines: list[str], wanted: Sequence[str]) -> str:
 
 def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> RawColumns | None:
     lines = text.splitlines()
-    wanted = (settings.date_col, settings.demand_col, settings.temp_col)
+    setting_names = settings.column_settings()
+    wanted = tuple(str(getattr(settings, n)) for n in setting_names)
     if not any(line.strip() for line in lines):
         issues.add(
             "error", "The history file is empty", fix="Choose a file with a header and data rows"
@@ -122,11 +156,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
         missing = [
             w for w, n in zip(wanted, wanted_n, strict=True) if n not in [_norm(c) for c in first]
         ]
-        setting_of = {
-            settings.date_col: "date_col",
-            settings.demand_col: "demand_col",
-            settings.temp_col: "temp_col",
-        }
+        setting_of = dict(zip(wanted, setting_names, strict=True))
         for name in missing:
             issues.add(
                 "error",
@@ -143,7 +173,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
         )
     header = [_norm(c) for c in records[header_at]]
     positions = [header.index(w) for w in wanted_n]
-    names = tuple(records[header_at][p].strip().strip("\ufeff") for p in positions)
+    names = [records[header_at][p].strip().strip("\ufeff") for p in positions]
     unused = [
         c.strip() for j, c in enumerate(records[header_at]) if j not in positions and c.strip()
     ]
@@ -186,13 +216,8 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
             fix=f"Check the row for a missing {'tab' if delim == chr(9) else repr(delim)} separator",
             rows=[r for r, _ in short_rows],
         )
-    return RawColumns(
-        rows=keep_rows,
-        date=columns[0],
-        demand=columns[1],
-        temperature=columns[2],
-        names=names,  # type: ignore[arg-type]
-    )
+    raw = _raw_columns(keep_rows, columns, names, settings)
+    return dataclasses.replace(raw, unused=tuple(unused))
 
 
 def _raw_from_frame(
@@ -203,7 +228,7 @@ def _raw_from_frame(
     if _norm(settings.date_col) not in lookup and isinstance(frame.index, pd.DatetimeIndex):
         frame = frame.reset_index(names=settings.date_col)
         lookup = {_norm(c): c for c in frame.columns}
-    wanted = (settings.date_col, settings.demand_col, settings.temp_col)
+    wanted = tuple(str(getattr(settings, n)) for n in settings.column_settings())
     missing = [w for w in wanted if _norm(w) not in lookup]
     if missing:
         found = ", ".join(repr(str(c)) for c in frame.columns) or "none"
@@ -225,13 +250,14 @@ def _raw_from_frame(
             lambda v: "" if v is None or (isinstance(v, float) and np.isnan(v)) else str(v).strip()
         )
 
-    return RawColumns(
-        rows=np.arange(1, len(frame) + 1, dtype=np.int64),
-        date=prepared(frame[cols[0]]),
-        demand=prepared(frame[cols[1]]),
-        temperature=prepared(frame[cols[2]]),
-        names=tuple(str(c) for c in cols),  # type: ignore[arg-type]
+    raw = _raw_columns(
+        np.arange(1, len(frame) + 1, dtype=np.int64),
+        [prepared(frame[c]) for c in cols],
+        [str(c) for c in cols],
+        settings,
     )
+    unused = tuple(str(c) for c in frame.columns if c not in cols)
+    return dataclasses.replace(raw, unused=unused)
 
 
 def read_raw(source: Any, settings: HistorySettings, issues: Collector) -> RawColumns | None:

@@ -26,6 +26,14 @@ class HistorySettings:
     ----------
     date_col, demand_col, temp_col : str
         Column names in the file (matched ignoring case and surrounding spaces).
+    hour_col : str or None
+        A column with the reading's place in the day, for files whose date column holds only
+        the date: hour numbers 1-24 (hour ending) or 0-23 (hour beginning), detected from the
+        values, or a time of day (``HH:MM`` or ``HH:MM:SS``). ``None``: the date column carries
+        any time of day itself.
+    temp_min_col : str or None
+        A column with the daily minimum temperature (same unit as ``temp_col``), for daily
+        files; sub-daily files give the minimum of the day's readings without it.
     temp_unit : {"C", "F"}
         Unit of the temperature column; °F is converted to °C on reading. Any spelling that
         :func:`loadcore.units.parse_unit` accepts (``"f"``, ``"°F"``) is stored as ``"C"`` or
@@ -49,6 +57,8 @@ class HistorySettings:
     date_col: str = "date"
     demand_col: str = "demand"
     temp_col: str = "temperature"
+    hour_col: str | None = None
+    temp_min_col: str | None = None
     temp_unit: units.Unit = "C"
     temp_kind: TempKind = "max"
     demand_unit: str = "MW"
@@ -91,3 +101,21 @@ class HistorySettings:
                     where=f"history settings: {name}",
                     fix="Give the column's name as it appears in the file's header",
                 )
+        for name in ("hour_col", "temp_min_col"):
+            value = getattr(self, name)
+            if value is not None and not str(value).strip():
+                object.__setattr__(self, name, None)  # an empty field means "no such column"
+        named = [str(getattr(self, n)).strip().lower() for n in self.column_settings()]
+        for name in self.column_settings()[3:]:
+            if named.count(str(getattr(self, name)).strip().lower()) > 1:
+                raise HistoryError(
+                    f"The {name} setting names the same column as another setting "
+                    f"({getattr(self, name)!r})",
+                    where=f"history settings: {name}",
+                    fix="Give each setting its own column of the file",
+                )
+
+    def column_settings(self) -> tuple[str, ...]:
+        """The names of the settings that name a column of the file, those in use only."""
+        optional = tuple(n for n in ("hour_col", "temp_min_col") if getattr(self, n) is not None)
+        return ("date_col", "demand_col", "temp_col", *optional)

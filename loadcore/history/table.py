@@ -28,7 +28,9 @@ class History:
     frame : pandas.DataFrame
         Indexed by a complete daily ``DatetimeIndex`` named ``date``; columns ``demand``
         (float, in ``settings.demand_unit``, NaN on missing days), ``temperature_c`` (float, °C,
-        no NaN) and ``temperature_filled`` (bool, True where interpolated).
+        no NaN), ``temperature_filled`` (bool, True where interpolated) and, where the source
+        gave it (sub-daily readings or a minimum column), ``temperature_min_c`` (float, °C, the
+        daily minimum, no NaN).
     settings : HistorySettings
     report : HistoryReport
     fingerprint : str
@@ -60,6 +62,11 @@ class History:
         return len(self.frame)
 
     @property
+    def has_minimum(self) -> bool:
+        """Whether the history has the daily minimum temperature (``temperature_min_c``)."""
+        return "temperature_min_c" in self.frame.columns
+
+    @property
     def temperature_range_c(self) -> tuple[float, float]:
         """(lowest, highest) daily temperature in °C."""
         temps = self.frame["temperature_c"]
@@ -71,7 +78,7 @@ def frame_fingerprint(frame: pd.DataFrame) -> str:
     digest = hashlib.sha256()
     days = np.asarray(frame.index.values.astype("datetime64[D]").astype(np.int64), dtype="<i8")
     digest.update(days.tobytes())
-    for name in ("demand", "temperature_c", "temperature_filled"):
+    for name in ("demand", "temperature_c", "temperature_filled", "temperature_min_c"):
         if name not in frame:
             continue
         digest.update(name.encode())
@@ -85,6 +92,28 @@ def frame_fingerprint(frame: pd.DataFrame) -> str:
     return digest.hexdigest()
 
 
+def _filled(temp: pd.Series, name: str, settings: HistorySettings) -> tuple[pd.Series, np.ndarray]:
+    """A daily temperature column with its short inner gaps interpolated, and where they were.
+
+    Raises
+    ------
+    HistoryError
+        For a gap at either end or longer than ``settings.max_temp_gap_days``.
+    """
+    missing = temp.isna().to_numpy()
+    for a, b in runs(missing):
+        if a == 0 or b == len(temp) - 1 or b - a + 1 > settings.max_temp_gap_days:
+            raise HistoryError(
+                f"Temperature is missing for {b - a + 1} day(s) and cannot be filled",
+                where=f"date {temp.index[a]:%Y-%m-%d}",
+                fix=f"Give a {name} value on every day (gaps of up to "
+                f"{settings.max_temp_gap_days} days inside the history are interpolated)",
+            )
+    if missing.any():
+        temp = temp.interpolate(method="linear")
+    return temp, missing
+
+
 def history_from_frame(
     frame: pd.DataFrame,
     settings: HistorySettings | None = None,
@@ -96,8 +125,9 @@ def history_from_frame(
     ----------
     frame : pandas.DataFrame
         Daily ``DatetimeIndex`` (or a ``date`` column) and columns ``demand`` (MW) and
-        ``temperature_c`` (°C); optional ``temperature_filled`` (bool). Missing dates are added
-        with NaN demand; temperature must be present on every day.
+        ``temperature_c`` (°C); optional ``temperature_filled`` (bool) and
+        ``temperature_min_c`` (°C, the daily minimum). Missing dates are added with NaN demand;
+        temperature must be present on every day (short gaps inside are interpolated).
     settings, report : optional
         Kept on the History as given (defaults: ``HistorySettings()`` and an empty report).
 
@@ -142,17 +172,14 @@ def history_from_frame(
     data = data.reindex(full)
     demand = pd.to_numeric(data["demand"], errors="coerce").astype(float)
     temp = pd.to_numeric(data["temperature_c"], errors="coerce").astype(float)
-    missing_temp = temp.isna().to_numpy()
-    for a, b in runs(missing_temp):
-        if a == 0 or b == len(temp) - 1 or b - a + 1 > settings.max_temp_gap_days:
-            raise HistoryError(
-                f"Temperature is missing for {b - a + 1} day(s) and cannot be filled",
-                where=f"date {temp.index[a]:%Y-%m-%d}",
-                fix=f"Give a temperature_c value on every day (gaps of up to "
-                f"{settings.max_temp_gap_days} days inside the history are interpolated)",
-            )
-    if missing_temp.any():
-        temp = temp.interpolate(method="linear")
+    temp, missing_temp = _filled(temp, "temperature_c", settings)
+    minimum = None
+    if "temperature_min_c" in data.columns:
+        minimum, _ = _filled(
+            pd.to_numeric(data["temperature_min_c"], errors="coerce").astype(float),
+            "temperature_min_c",
+            settings,
+        )
     if (demand <= 0).any():
         bad = demand.index[(demand <= 0).to_numpy()][0]
         raise HistoryError(
@@ -165,12 +192,12 @@ def history_from_frame(
         if "temperature_filled" in data.columns
         else pd.Series(False, index=full)
     ) | missing_temp
-    out = pd.DataFrame(
-        {
-            "demand": demand.to_numpy(),
-            "temperature_c": temp.to_numpy(),
-            "temperature_filled": filled.to_numpy(),
-        },
-        index=pd.DatetimeIndex(full, freq="D", name="date"),
-    )
+    columns = {
+        "demand": demand.to_numpy(),
+        "temperature_c": temp.to_numpy(),
+        "temperature_filled": filled.to_numpy(),
+    }
+    if minimum is not None:
+        columns["temperature_min_c"] = minimum.to_numpy()
+    out = pd.DataFrame(columns, index=pd.DatetimeIndex(full, freq="D", name="date"))
     return History(frame=out, settings=settings, report=report or HistoryReport())

@@ -9,7 +9,8 @@ Format 2 (written since the model package; every name is ours)::
     settings          FitSettings.to_dict(): search, ar_up_to, ma_up_to, ar_ma_up_to,
                       weekly_ar_up_to, weekly_ma_up_to, log, terms, calendar, workers
     history           start, demand, temperature_c, temperature_filled, demand_unit,
-                      fingerprint (the daily history the model was fitted on)
+                      fingerprint (the daily history the model was fitted on), and
+                      temperature_min_c when the history has the daily minimum
     design            columns, day_type_levels, base_type, origin, intercept
     errors            Orders.to_dict(): ar, differencing, ma, weekly_ar,
                       weekly_differencing, weekly_ma
@@ -122,6 +123,11 @@ def model_to_dict(model: Any) -> dict:
             ],
             "demand_unit": getattr(hs, "demand_unit", "MW"),
             "fingerprint": model.history.fingerprint,
+            **(
+                {"temperature_min_c": _nan_to_none(frame["temperature_min_c"].to_numpy(float))}
+                if "temperature_min_c" in frame
+                else {}
+            ),
         },
         "design": {
             "columns": list(model.columns),
@@ -258,6 +264,8 @@ def _history(h: dict, where: str):
         },
         index=idx,
     )
+    if "temperature_min_c" in h:
+        frame["temperature_min_c"] = _floats(h["temperature_min_c"])
     history = history_from_frame(
         frame, settings=HistorySettings(demand_unit=str(h.get("demand_unit", "MW")))
     )
