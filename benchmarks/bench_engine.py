@@ -74,8 +74,6 @@ def _peak_memory_mb() -> float:
         "from loadcore.model import fit, FitSettings\n"
         f"h = read_history({csv!r})\n"
         "fit(h, FitSettings(search='thorough'))\n"
-        "from loadcore.model import shutdown_workers\n"
-        "shutdown_workers()\n"
         "me = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss\n"
         "kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss\n"
         "print(me + kids)\n"

@@ -9,15 +9,18 @@ from scipy import stats
 
 from loadcore.model import (
     Orders,
+    RegressionArima,
     aicc,
     autocorrelations,
     build_state_space,
-    css_screen,
+    css_fit,
     exact_fit,
     kpss_differences,
     kpss_statistic,
     ljung_box,
 )
+from loadcore.model.constraints import stationary_invertible
+from loadcore.model.screening import css_residuals
 
 
 def test_kpss_critical_values_match_the_published_table():
@@ -89,7 +92,7 @@ def test_nile_arima_011_matches_the_local_level_estimates():
     theta = (-(q + 2) + np.sqrt(q * q + 4 * q)) / 2
     assert theta == pytest.approx(-0.733, abs=5e-4)
     scale = 1.0 / np.std(np.diff(flow))
-    res = exact_fit(flow * scale, None, Orders(0, 1, 1, 0, 0, 0), None)
+    res = exact_fit(RegressionArima(flow * scale, None, Orders(0, 1, 1, 0, 0, 0)))
     assert res.converged and res.invertible
     assert res.params[0] == pytest.approx(theta, abs=0.01)
     # The innovation variance of the reduced form is sigma2_eps / (-theta) (Harvey, 1989).
@@ -103,10 +106,13 @@ def test_css_screening_recovers_a_seasonal_ar_process():
 
     ar = np.convolve([1, -0.7], np.r_[1, np.zeros(6), -0.3])
     x = ArmaProcess(ar, [1]).generate_sample(3000, distrvs=np.random.default_rng(5).normal)
-    r = css_screen(x, Orders(1, 0, 0, 1, 0, 0), n_exog=0, burn=20)
-    assert r.ok
-    assert r.params == pytest.approx([0.7, 0.3], abs=0.05)
-    assert r.sigma2 == pytest.approx(1.0, rel=0.08)
+    orders = Orders(1, 0, 0, 1, 0, 0)
+    params = css_fit(x, orders, burn=20)
+    ok = all(stationary_invertible(params, orders))
+    sigma2 = float(np.mean(css_residuals(params, x, orders, 20) ** 2))
+    assert ok
+    assert params == pytest.approx([0.7, 0.3], abs=0.05)
+    assert sigma2 == pytest.approx(1.0, rel=0.08)
 
 
 def test_lognormal_mean_is_the_bias_adjusted_back_transform():

@@ -7,9 +7,14 @@ The modules, in the order a fit uses them:
   regression columns are built;
 - :mod:`~loadcore.model.orders`: :class:`Orders`, :class:`SearchBounds`, differencing tests, lag
   polynomials, AICc;
-- :mod:`~loadcore.model.screening`: conditional-sum-of-squares screening, the stepwise walk;
-- :mod:`~loadcore.model.exact`: exact maximum likelihood of one candidate, the worker pool;
-- :mod:`~loadcore.model.search`: the order search that calls the two;
+- :mod:`~loadcore.model.constraints`: the map to stationary, invertible error parameters;
+- :mod:`~loadcore.model.likelihood`: :class:`RegressionArima`, the exact likelihood (banded
+  Cholesky factor, GLS coefficients, missing days);
+- :mod:`~loadcore.model.screening`: CSS estimates scored by the exact likelihood;
+- :mod:`~loadcore.model.exact`: :func:`exact_fit`, exact maximum likelihood of one candidate;
+- :mod:`~loadcore.model.workers`: forked worker processes with one BLAS thread each;
+- :mod:`~loadcore.model.search`: pilot, screen, exact fits within a margin, the stepwise walk;
+- :mod:`~loadcore.model.simulate`: simulated histories with known truths (tests, benchmarks);
 - :mod:`~loadcore.model.statespace`: the state-space form and the filter (statsmodels);
 - :mod:`~loadcore.model.fitting`: :func:`fit`, a short pipeline over the above;
 - :mod:`~loadcore.model.fitted`: :class:`FittedModel` and :func:`load_model`;
@@ -20,10 +25,11 @@ The modules, in the order a fit uses them:
 """
 
 from .diagnostics import Diagnostics, autocorrelations, ljung_box
-from .exact import ExactResult, default_workers, exact_fit, exact_fits, shutdown_workers
+from .exact import ExactFit, exact_fit
 from .fitted import FittedModel, load_model
 from .fitting import fit
 from .forecast import Forecast
+from .likelihood import RegressionArima, identified_columns
 from .model_file import FORMAT_VERSION as MODEL_FILE_VERSION
 from .orders import (
     WEEKLY_PERIOD,
@@ -39,27 +45,29 @@ from .orders import (
     roots_ok,
     seasonal_strength,
 )
-from .screening import ScreenResult, css_screen, stepwise_orders
-from .search import REFIT_COUNT, SearchOutcome, search_orders
+from .screening import ScreenScore, css_fit, screen
+from .search import SCREEN_MARGIN, SearchOutcome, fit_orders, search_orders
 from .settings import SEARCH_MODES, FitSettings, Progress
 from .statespace import EndState, build_state_space
 from .terms import TermSpec, design_matrix, model_response
+from .workers import default_workers
 
 __all__ = [
     "MODEL_FILE_VERSION",
-    "REFIT_COUNT",
+    "SCREEN_MARGIN",
     "SEARCH_MODES",
     "WEEKLY_PERIOD",
     "Diagnostics",
     "DifferencingDecision",
     "EndState",
-    "ExactResult",
+    "ExactFit",
     "FitSettings",
     "FittedModel",
     "Forecast",
     "Orders",
     "Progress",
-    "ScreenResult",
+    "RegressionArima",
+    "ScreenScore",
     "SearchBounds",
     "SearchOutcome",
     "TermSpec",
@@ -67,13 +75,14 @@ __all__ = [
     "autocorrelations",
     "build_state_space",
     "choose_differencing",
-    "css_screen",
+    "css_fit",
     "default_workers",
     "design_matrix",
     "difference",
     "exact_fit",
-    "exact_fits",
     "fit",
+    "fit_orders",
+    "identified_columns",
     "kpss_differences",
     "kpss_statistic",
     "lag_polynomials",
@@ -81,8 +90,7 @@ __all__ = [
     "load_model",
     "model_response",
     "roots_ok",
+    "screen",
     "search_orders",
     "seasonal_strength",
-    "shutdown_workers",
-    "stepwise_orders",
 ]

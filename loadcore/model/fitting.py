@@ -1,17 +1,16 @@
 """``fit()``: the demand model fitted to a history, as a short pipeline.
 
 log(demand_t) = x_t' beta + u_t, where u_t follows a weekly seasonal ARIMA process, estimated
-jointly by exact Gaussian maximum likelihood through the Kalman filter (Durbin and Koopman,
-2012). How a fit runs:
+jointly by exact Gaussian maximum likelihood (:mod:`loadcore.model.likelihood`). How a fit runs:
 
 1. the regression rows (:mod:`loadcore.model.terms`) and an ordinary least-squares fit;
-2. the differencing tests on its residuals (:func:`loadcore.model.orders.choose_differencing`);
-3. the response rescaled and centred on a least-squares fit, so that every optimiser parameter
-   is of order one;
-4. the order search (:func:`loadcore.model.search.search_orders`): screening, exact refits,
+2. the differencing tests on its residuals (:func:`loadcore.model.orders.choose_differencing`),
+   and the columns that stay identified under that differencing;
+3. the order search (:func:`loadcore.model.search.search_orders`): pilot, screen, exact fits,
    polish;
-5. a final Kalman filter on the model scale for the end state, residuals and OPG standard
-   errors (:func:`loadcore.model.statespace.run_filter`).
+4. one Kalman filter pass at the chosen parameters (statsmodels, the reference) for the end
+   state the forecasts start from and the one-step residuals
+   (:func:`loadcore.model.statespace.run_filter`).
 """
 
 from __future__ import annotations
@@ -27,7 +26,8 @@ from ..calendar import BASE_TYPE, day_types
 from ..errors import ModelError
 from ..history import History
 from .fitted import FittedModel
-from .orders import DifferencingDecision, Orders, aicc, choose_differencing, difference, fill_gaps
+from .likelihood import identified_columns
+from .orders import DifferencingDecision, Orders, choose_differencing
 from .search import candidate_table, search_orders
 from .settings import FitSettings, Progress
 from .statespace import run_filter
@@ -91,6 +91,23 @@ def _regression(history: History, settings: FitSettings) -> tuple[_Design, np.nd
     return _Design(y, X, levels, base, dates[0]), _ols(y, X.to_numpy())
 
 
+def _identified(frame: pd.DataFrame, d: int, D: int) -> pd.DataFrame:
+    """The regression columns that stay identified under the differencing: no constant once the
+    errors are differenced, and no column that the differencing makes vanish (a weekday type
+    under weekly differencing, a straight-line trend under both)."""
+    if d or D:
+        frame = frame.drop(columns="const")
+    keep = identified_columns(frame.to_numpy(), d, D)
+    if not keep.all():
+        log.info(
+            "left out under differencing %d, weekly %d: %s",
+            d,
+            D,
+            ", ".join(frame.columns[~keep]),
+        )
+    return frame.loc[:, keep]
+
+
 def fit(
     history: History,
     settings: FitSettings | None = None,
@@ -124,24 +141,11 @@ def fit(
     else:
         decision = DifferencingDecision.given(orders)
     d, D = decision.d, decision.D
-    intercept = d == 0 and D == 0
-    if intercept:
-        X_df, beta0 = design.frame, beta_ols
-    else:  # the constant is not identified once the errors are differenced
-        X_df = design.frame.drop(columns="const")
-        X = X_df.to_numpy()
-        Xd = np.column_stack([difference(X[:, j], d, D) for j in range(X.shape[1])])
-        beta0 = _ols(difference(y, d, D), Xd)
+    X_df = _identified(design.frame, d, D)
     X = X_df.to_numpy()
-
-    # The optimiser works on s*(y - X beta0) with coefficients delta = s*(beta - beta0): the
-    # same likelihood, but every parameter of order one, which the quasi-Newton steps need.
-    w = difference(fill_gaps(y - X @ beta0), d, D)
-    scale = 1.0 / float(np.std(w)) if np.std(w) > 0 else 1.0
     outcome = search_orders(
-        (y - X @ beta0) * scale,
+        y,
         X,
-        w * scale,
         d=d,
         D=D,
         search=settings.search,
@@ -151,13 +155,12 @@ def fit(
         progress=progress,
     )
     best = outcome.best
-
-    # Back to the model scale for the final filter.
-    params = best.params.copy()
-    n_exog = X.shape[1]
-    params[:n_exog] = beta0 + params[:n_exog] / scale
-    params[-1] /= scale**2
-    run = run_filter(y, X, best.orders, params, with_covariance=True)
+    params = best.params
+    covariance = best.cov
+    run = run_filter(y, X, best.orders, params, with_covariance=not np.all(np.isfinite(covariance)))
+    if run.covariance is not None:  # the information matrix was singular: OPG instead
+        log.warning("exact covariance not available; using the outer product of gradients")
+        covariance = run.covariance
     columns = tuple(X_df.columns)
     run.check_names(len(columns), best.orders)
     model = FittedModel(
@@ -168,15 +171,15 @@ def fit(
         day_type_levels=design.levels,
         base_type=design.base_type,
         origin=design.origin,
-        intercept=intercept,
+        intercept=d == 0 and D == 0,
         params=params,
         param_names=columns + best.orders.parameter_names(),
-        covariance=run.covariance,
-        loglik=run.loglik,
-        aicc=aicc(run.loglik, len(params), best.n_obs),
+        covariance=covariance,
+        loglik=best.loglik,
+        aicc=best.aicc,
         n_obs=best.n_obs,
         converged=best.converged,
-        candidates=candidate_table(outcome, scale),
+        candidates=candidate_table(outcome),
         differencing=decision,
         end_state=run.end_state,
         residuals=run.residuals(pd.DatetimeIndex(history.frame.index)),

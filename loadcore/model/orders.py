@@ -76,6 +76,27 @@ class Orders:
     def n_arma(self) -> int:
         return self.p + self.q + self.P + self.Q
 
+    @property
+    def ar_degree(self) -> int:
+        """Degree of the expanded AR polynomial, ``p + period * P`` (days)."""
+        return self.p + self.period * self.P
+
+    @property
+    def ma_degree(self) -> int:
+        """Degree of the expanded MA polynomial, ``q + period * Q`` (days)."""
+        return self.q + self.period * self.Q
+
+    @property
+    def lost_days(self) -> int:
+        """Days the differencing uses up at the start, ``d + period * D``."""
+        return self.d + self.period * self.D
+
+    def split(self, params) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+        """The blocks AR, MA, weekly AR, weekly MA of an error-parameter vector."""
+        params = np.asarray(params, float)
+        p, q, P = self.p, self.q, self.P
+        return params[:p], params[p : p + q], params[p + q : p + q + P], params[p + q + P :]
+
     def to_dict(self) -> dict[str, int]:
         """The orders in the product's own words (model files, ``fit --json``)."""
         return {
@@ -270,12 +291,12 @@ def choose_differencing(resid: np.ndarray, period: int = WEEKLY_PERIOD) -> Diffe
 
 
 def difference(x: np.ndarray, d: int, D: int, period: int = WEEKLY_PERIOD) -> np.ndarray:
-    """Apply ``D`` weekly and ``d`` first differences."""
+    """Apply ``D`` weekly and ``d`` first differences along the first axis (rows are days)."""
     x = np.asarray(x, float)
     for _ in range(D):
         x = x[period:] - x[:-period]
     for _ in range(d):
-        x = np.diff(x)
+        x = x[1:] - x[:-1]
     return x
 
 
@@ -322,10 +343,10 @@ def lag_polynomials(
     return np.convolve(A, S), np.convolve(M, N)
 
 
-def roots_ok(poly: np.ndarray) -> bool:
-    """True when every root of the lag polynomial lies outside the unit circle (with a margin)."""
+def roots_ok(poly: np.ndarray, margin: float = ROOT_MARGIN) -> bool:
+    """True when every root of the lag polynomial lies outside ``|z| = margin``."""
     poly = np.trim_zeros(np.asarray(poly, float), "b")
     if len(poly) <= 1:
         return True
     roots = np.roots(poly[::-1])
-    return bool(np.all(np.abs(roots) > ROOT_MARGIN))
+    return bool(np.all(np.abs(roots) > margin))

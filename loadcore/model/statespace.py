@@ -98,7 +98,12 @@ def build_state_space(
     """The SARIMAX state-space model of a regression with seasonal ARIMA errors.
 
     With ``concentrate_scale`` the innovation variance is concentrated out of the likelihood
-    (Harvey, 1989) and is not among the model's parameters (the exact fitting uses this).
+    (Harvey, 1989) and is not among the model's parameters. A differenced model starts from the
+    exact diffuse initialisation (Durbin and Koopman, 2012, section 5.2), whose likelihood is
+    that of the differenced data (Ansley and Kohn, 1985) up to the constant
+    ``(d + 7D)/2 log 2 pi`` (see :func:`loadcore.model.likelihood.diffuse_constant`), as our
+    exact fits compute it; the approximate diffuse start miscounts a missing day in the first
+    ``d + 7D`` days.
     """
     from statsmodels.tsa.statespace.sarimax import SARIMAX
 
@@ -111,6 +116,7 @@ def build_state_space(
         enforce_stationarity=True,
         enforce_invertibility=True,
         concentrate_scale=concentrate_scale,
+        use_exact_diffuse=orders.lost_days > 0,
     )
 
 
@@ -215,7 +221,7 @@ def run_filter(
         results=res,
         end_state=state,
         errors=errors,
-        burn=int(res.loglikelihood_burn),
+        burn=max(int(res.loglikelihood_burn), int(getattr(res, "nobs_diffuse", 0) or 0)),
         loglik=float(res.llf),
         covariance=np.asarray(res.cov_params(), float) if with_covariance else None,
     )
