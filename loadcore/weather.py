@@ -439,7 +439,9 @@ def pool_trace_paths(
     """Demand paths for every temperature trace, grouped by trace.
 
     One call of ``model.simulate_noise`` draws ``paths_per_trace`` error paths from the end of
-    the model's history; the same error paths are added to every trace's linear predictor. This
+    the model's history; the same error paths are added to every trace's linear predictor, with
+    the spread of the estimated regression coefficients (``model.coefficient_draws``, the same
+    coefficient draws for every trace). This
     is exact for each trace's predictive distribution because the model's error process does not
     depend on temperature: conditional on a trace, the demand paths are the trace's predictor
     plus draws of that error process. Reusing the draws only makes the traces share their error
@@ -479,6 +481,8 @@ def pool_trace_paths(
     # Day types go to the scenario only where they differ from the model's own calendar.
     scenario_types = None if given == calendar else tuple(given)
     predictors = np.empty((n_traces, horizon))
+    coefficients = np.zeros((n_traces, paths_per_trace, horizon))
+    draws = getattr(model, "coefficient_draws", None)
     for i, name in enumerate(traces.columns):
         scenario = Scenario(
             name=str(name),
@@ -487,9 +491,12 @@ def pool_trace_paths(
             day_types=scenario_types,
         )
         predictors[i] = np.asarray(model.linear_predictor(scenario), dtype=float)
+        if draws is not None:  # the estimated coefficients' spread, same draws for every trace
+            coefficients[i] = draws(scenario, paths_per_trace, seed)
         if progress is not None:
             progress(i + 1, n_traces, f"trace {name}")
-    return np.asarray(model.to_demand(predictors[:, None, :] + noise[None, :, :]), dtype=float)
+    paths = predictors[:, None, :] + noise[None, :, :] + coefficients
+    return np.asarray(model.to_demand(paths), dtype=float)
 
 
 def ensemble_forecast(

@@ -14,7 +14,6 @@ import pandas as pd
 import pytest
 from statsmodels.tsa.statespace.sarimax import SARIMAX
 
-from loadcore.history import history_from_frame
 from loadcore.model import FitSettings, Orders, fit, load_model
 from loadcore.model.simulate import ErrorTruth, simulated_history
 from loadcore.scenario import Scenario
@@ -31,10 +30,7 @@ SETTINGS = FitSettings(
 @pytest.fixture(scope="module")
 def simulated():
     sim = simulated_history(TRUTH, n_days=1500, missing_fraction=0.03, seed=7)
-    frame = pd.DataFrame(
-        {"demand": np.exp(sim.y), "temperature_c": sim.temperature_c}, index=sim.dates
-    )
-    history = history_from_frame(frame)
+    history = sim.to_history()
     return sim, history, fit(history, SETTINGS)
 
 

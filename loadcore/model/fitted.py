@@ -275,17 +275,46 @@ class FittedModel:
         """
         return propagation.simulate_noise(self.end_state, horizon, n_paths, seed)
 
+    @property
+    def coefficient_covariance(self) -> np.ndarray:
+        """Covariance of the regression coefficients, in ``columns`` order (model scale)."""
+        m = len(self.columns)
+        return self.covariance[:m, :m]
+
     def sample_paths(self, scenario: Scenario, n_paths: int, seed: int | None = 0) -> np.ndarray:
-        """Demand sample paths for a scenario, shape (n_paths, horizon), demand units."""
+        """Demand sample paths for a scenario, shape (n_paths, horizon), demand units.
+
+        Each path draws the error process and the regression coefficients (from their
+        covariance), as the analytic intervals of :meth:`forecast` count both."""
         lin = self.linear_predictor(scenario)
-        return self.to_demand(lin[None, :] + self.simulate_noise(len(lin), n_paths, seed))
+        noise = self.simulate_noise(len(lin), n_paths, seed)
+        noise += self.coefficient_draws(scenario, n_paths, seed)
+        return self.to_demand(lin[None, :] + noise)
+
+    def coefficient_draws(
+        self, scenario: Scenario, n_paths: int, seed: int | None = 0
+    ) -> np.ndarray:
+        """What the estimated regression coefficients add to each path, shape (n_paths,
+        horizon), model scale: one draw of the coefficients from their covariance per path
+        (the same draws for the same seed, whatever the scenario's temperatures)."""
+        dates, temps, types = self._scenario_inputs(scenario)
+        X = self.regressors(dates, temps, types)
+        return propagation.coefficient_paths(
+            self.end_state, X, self.coefficient_covariance, n_paths, seed
+        )
 
     def forecast(self, scenario: Scenario, levels: Sequence[float] = (80, 95)) -> Forecast:
         """Forecast a scenario: mean, median, prediction intervals and range flags per day."""
         levels = interval_levels.parse_levels(levels, where="interval levels")
         dates, temps, types = self._scenario_inputs(scenario)
-        lin = self.regressors(dates, temps, types) @ self.beta
+        X = self.regressors(dates, temps, types)
+        lin = X @ self.beta
         noise_mean, noise_var = propagation.noise_moments(self.end_state, len(dates))
+        # The estimated coefficients add their own spread (a forecast from estimated
+        # parameters; Goldberger, 1962).
+        noise_var = noise_var + propagation.coefficient_variance(
+            self.end_state, X, self.coefficient_covariance
+        )
         frame = propagation.forecast_frame(
             dates=dates,
             temperature_c=temps,

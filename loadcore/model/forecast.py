@@ -64,6 +64,55 @@ def noise_moments(state: EndState, horizon: int) -> tuple[np.ndarray, np.ndarray
     return mean, var
 
 
+def effective_regressors(state: EndState, X_future: np.ndarray) -> np.ndarray:
+    """How each forecast day depends on the estimated regression coefficients, (horizon, m).
+
+    The forecast on day h is ``x_h' beta + Z T^(h-1) (a(y) - W beta)`` (``W`` the state's
+    :attr:`~loadcore.model.statespace.EndState.regression_weights`), so an error in ``beta``
+    moves it by ``g_h' (beta_hat - beta)`` with ``g_h = x_h - W' (T')^(h-1) Z'``: near the
+    origin the filtered errors take back much of a wrong level, far from it the full ``x_h``
+    counts (Goldberger, 1962, for the best linear unbiased predictor with estimated
+    coefficients). Model files that predate the weights get zeros: they forecast as they did.
+    """
+    X_future = np.atleast_2d(np.asarray(X_future, float))
+    W = state.regression_weights
+    if W is None or W.shape[1] != X_future.shape[1]:
+        return np.zeros_like(X_future)
+    out = np.empty_like(X_future)
+    row = state.observation.copy()  # Z T^(h-1), starting with h = 1
+    for h in range(X_future.shape[0]):
+        out[h] = X_future[h] - (row @ W)[0]
+        row = row @ state.transition
+    return out
+
+
+def coefficient_variance(
+    state: EndState, X_future: np.ndarray, coefficient_covariance: np.ndarray
+) -> np.ndarray:
+    """Variance that the estimated regression coefficients add to each forecast day,
+    ``g_h' Cov(beta) g_h`` (see :func:`effective_regressors`), model scale."""
+    G = effective_regressors(state, X_future)
+    return np.einsum("hi,ij,hj->h", G, np.asarray(coefficient_covariance, float), G)
+
+
+def coefficient_paths(
+    state: EndState,
+    X_future: np.ndarray,
+    coefficient_covariance: np.ndarray,
+    n_paths: int,
+    seed: int | None,
+) -> np.ndarray:
+    """Draws of ``g_h' (beta* - beta_hat)``, beta* ~ N(beta_hat, Cov(beta)), shape
+    (n_paths, horizon): the forecast's spread from the estimated coefficients, one draw of
+    the coefficients per path."""
+    rng = np.random.default_rng(None if seed is None else [int(seed), 1])
+    G = effective_regressors(state, X_future)
+    C = np.asarray(coefficient_covariance, float)
+    vals, vecs = np.linalg.eigh((C + C.T) / 2)
+    L = vecs * np.sqrt(np.clip(vals, 0, None))
+    return (G @ L @ rng.standard_normal((C.shape[0], n_paths))).T
+
+
 def simulate_noise(state: EndState, horizon: int, n_paths: int, seed: int | None) -> np.ndarray:
     """Error paths from the end of the history, shape (n_paths, horizon), model scale."""
     rng = np.random.default_rng(seed)

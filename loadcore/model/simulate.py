@@ -119,6 +119,16 @@ class SimulatedHistory:
     beta: np.ndarray
     truth: ErrorTruth
 
+    def to_history(self):
+        """The simulated days as a validated :class:`loadcore.history.History` (demand in MW
+        = exp of the log demand, missing days kept missing)."""
+        from ..history import history_from_frame
+
+        frame = pd.DataFrame(
+            {"demand": np.exp(self.y), "temperature_c": self.temperature_c}, index=self.dates
+        )
+        return history_from_frame(frame)
+
 
 def simulate_errors(truth: ErrorTruth, n_days: int, rng: np.random.Generator) -> np.ndarray:
     """A draw of the error process, started far back so that it is stationary (burn-in 500 days)."""

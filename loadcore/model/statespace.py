@@ -33,6 +33,9 @@ FIELDS = (
     "observation_variance",
 )
 
+#: Optional field of :class:`EndState` (model files written before it lack it).
+OPTIONAL_FIELDS = ("regression_weights",)
+
 
 @dataclass(frozen=True, eq=False)
 class EndState:
@@ -56,6 +59,12 @@ class EndState:
         Covariance of the shocks (Q), model scale.
     observation_variance : (1, 1) array
         Variance of the observation noise (H; zero for an ARIMA error process).
+    regression_weights : (k, m) array, optional
+        How the predicted state depends on the m regression coefficients: the filter is linear
+        in the data, so the state filtered from the residuals y - X beta is
+        ``a(y) - regression_weights @ beta``; column j is the state filtered from regressor j
+        alone. Forecasts need it for the variance that the estimated coefficients add
+        (:func:`loadcore.model.forecast.coefficient_variance`).
     """
 
     mean: np.ndarray
@@ -65,9 +74,12 @@ class EndState:
     selection: np.ndarray
     shock_covariance: np.ndarray
     observation_variance: np.ndarray
+    regression_weights: np.ndarray | None = None
 
     def __post_init__(self) -> None:
-        for name in FIELDS:
+        for name in FIELDS + OPTIONAL_FIELDS:
+            if getattr(self, name) is None:
+                continue
             value = np.array(getattr(self, name), dtype=float)
             value.setflags(write=False)
             object.__setattr__(self, name, value)
@@ -81,15 +93,21 @@ class EndState:
             or self.selection.shape[0] != k[0]
             or self.shock_covariance.shape != (self.selection.shape[1],) * 2
             or self.observation_variance.shape != (1, 1)
+            or (
+                self.regression_weights is not None
+                and (self.regression_weights.ndim != 2 or self.regression_weights.shape[0] != k[0])
+            )
         ):
             raise ValueError("the state-space matrices do not fit together")
 
     def to_dict(self) -> dict[str, list]:
-        return {name: getattr(self, name).tolist() for name in FIELDS}
+        names = FIELDS + tuple(n for n in OPTIONAL_FIELDS if getattr(self, n) is not None)
+        return {name: getattr(self, name).tolist() for name in names}
 
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> EndState:
-        return cls(**{name: data[name] for name in FIELDS})
+        optional = {name: data[name] for name in OPTIONAL_FIELDS if data.get(name) is not None}
+        return cls(**{name: data[name] for name in FIELDS}, **optional)
 
 
 def build_state_space(
@@ -188,6 +206,59 @@ class FilterRun:
             )
 
 
+def regression_weights(results: Any, X: np.ndarray | None) -> np.ndarray:
+    """The end state filtered from each regressor alone, one column per regressor.
+
+    The Kalman filter's gains do not depend on the data, so the predicted state is linear in the
+    series filtered (Durbin and Koopman, 2012, section 4.3): the state filtered from
+    ``y - X beta`` is ``a(y) - W beta``, with ``W[:, j]`` the state filtered from ``X[:, j]`` (the
+    days missing from ``y`` missing from it too). ``W`` is run through the gains of the filter
+    ``results`` already computed, ``W_(t+1) = T W_t + K_t (x_t - Z W_t)`` (``W_(t+1) = T W_t`` on a
+    missing day), all columns at once. A differenced model's exact diffuse start uses other
+    gains for its first days, so there each column is filtered on its own.
+    """
+    model = results.model
+    ssm = model.ssm
+    k = ssm.k_states
+    if X is None or X.shape[1] == 0:
+        return np.zeros((k, 0))
+    X = np.asarray(X, float)
+    y = np.asarray(model.endog, float).reshape(-1)
+    missing = ~np.isfinite(y)
+    if int(getattr(results, "nobs_diffuse", 0) or 0) > 0:
+        arma = np.asarray(results.params, float)[X.shape[1] :]
+        columns = []
+        for j in range(X.shape[1]):
+            series = np.where(missing, np.nan, X[:, j])
+            orders = _orders_of(model)
+            res = build_state_space(series, None, orders).filter(arma, cov_type="none")
+            columns.append(np.asarray(res.predicted_state[:, -1], float))
+        return np.column_stack(columns)
+    T = _fixed(ssm, "transition")
+    Z = _fixed(ssm, "design")
+    gains = np.asarray(results.filter_results.kalman_gain, float)[:, 0, :]
+    W = np.zeros((k, X.shape[1]))
+    for t in range(len(y)):
+        if missing[t]:
+            W = T @ W
+        else:
+            W = T @ W + np.outer(gains[:, t], X[t] - (Z @ W)[0])
+    return W
+
+
+def _fixed(ssm, name: str) -> np.ndarray:
+    """A time-invariant system matrix (statsmodels keeps a time axis only when it varies)."""
+    m = np.asarray(ssm[name], float)
+    return m[:, :, 0] if m.ndim == 3 else m
+
+
+def _orders_of(model) -> Orders:
+    """The :class:`Orders` of a SARIMAX model."""
+    p, d, q = model.order
+    P, D, Q, s = model.seasonal_order
+    return Orders(int(p), int(d), int(q), int(P), int(D), int(Q), int(s))
+
+
 def run_filter(
     y: np.ndarray,
     X: np.ndarray,
@@ -203,8 +274,7 @@ def run_filter(
     ssm = res.model.ssm
 
     def fixed(name: str) -> np.ndarray:
-        m = np.asarray(ssm[name], float)
-        return m[:, :, 0] if m.ndim == 3 else m
+        return _fixed(ssm, name)
 
     state = EndState(
         mean=np.asarray(res.predicted_state[:, -1], float),
@@ -214,6 +284,7 @@ def run_filter(
         selection=fixed("selection"),
         shock_covariance=fixed("state_cov"),
         observation_variance=fixed("obs_cov"),
+        regression_weights=regression_weights(res, X),
     )
     errors = np.asarray(res.filter_results.forecasts_error[0], float).copy()
     errors[~np.isfinite(np.asarray(y, float))] = np.nan
