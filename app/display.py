@@ -15,6 +15,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from app.plain import md
 from loadcore import texts, units
 from loadcore.errors import HistoryError, LoadcoreError
 
@@ -66,7 +67,7 @@ def fmt_delta(delta_c: float, digits: int = 1) -> str:
 def show_error(exc: LoadcoreError, what: str | None = None) -> None:
     """Show a loadcore error inline (and a history report's errors as a table)."""
     lead = f"{what}: " if what else ""
-    st.error(f"{lead}{exc}")
+    st.error(md(f"{lead}{exc}"))
     report = getattr(exc, "report", None) if isinstance(exc, HistoryError) else None
     if report is not None and len(report.issues):
         st.caption(
@@ -91,19 +92,20 @@ def heat_note(scenario_name: str, temperature_c) -> None:
     temps = np.asarray(temperature_c, dtype=float)
     if temps.size and np.nanmax(temps) >= texts.HEAT_HEALTH_C:
         text = texts.heat_note(float(np.nanmax(temps)), state.temp_unit())
-        st.warning(f"**{scenario_name}.** {text}", icon=":material/health_and_safety:")
+        st.warning(f"**{md(scenario_name)}.** {md(text)}", icon=":material/health_and_safety:")
 
 
 def out_of_range_lines(forecasts, range_c: tuple[float, float]) -> list[str]:
-    """One line per out-of-range day (``loadcore.export.out_of_range_days``, worded by
-    ``loadcore.texts.out_of_range_warning``): scenario, date, temperature, how far outside."""
+    """One Markdown line per out-of-range day (``loadcore.export.out_of_range_days``, worded by
+    ``loadcore.texts.out_of_range_warning``): scenario (escaped), date, temperature, how far
+    outside."""
     from loadcore.export import out_of_range_days
 
     unit = state.temp_unit()
     table = out_of_range_days(list(forecasts), temp_unit="C")
     low, high = (float(v) for v in range_c)
     return [
-        f"{row.scenario}, "
+        f"{md(row.scenario)}, "
         + texts.out_of_range_warning(
             f"{pd.Timestamp(row.date):%a %Y-%m-%d}", float(row.temperature_c), low, high, unit
         )

@@ -22,6 +22,7 @@ if str(_REPO) not in sys.path:
 import streamlit as st  # noqa: E402
 
 from app import display, state  # noqa: E402
+from app.plain import md  # noqa: E402
 from loadcore import texts  # noqa: E402
 
 logger = logging.getLogger("loadcore.app")
@@ -55,7 +56,7 @@ page = st.navigation(PAGES)
 
 with st.sidebar:
     st.markdown("**loadcore planner**")
-    st.caption(f"History: {state.history_source()}")
+    st.caption(f"History: {md(state.history_source())}")
     state.sync_sidebar_widgets()
     st.radio(
         "Temperatures in",

@@ -46,6 +46,7 @@ from typing import Any
 import streamlit as st
 
 from app import cache
+from app.plain import md
 from loadcore import units
 from loadcore.calendar import CalendarSpec
 from loadcore.errors import LoadcoreError
@@ -353,6 +354,6 @@ def forecasts_for_set(fitted) -> dict:
         try:
             out[name] = cache.forecast(fitted, scenario)
         except LoadcoreError as exc:
-            st.error(f"Scenario '{name}' cannot be forecast: {exc}")
+            st.error(md(f"Scenario '{name}' cannot be forecast: {exc}"))
     st.session_state[FORECASTS] = out
     return out

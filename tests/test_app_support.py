@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import functools
 import os
+import re
 import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -259,3 +260,58 @@ def test_pages_leave_the_session_to_app_state():
     """Pages call app/state.py's transitions; none reads or writes st.session_state itself."""
     for path in sorted((REPO / "app" / "pages").glob("*.py")):
         assert "session_state" not in path.read_text(encoding="utf-8"), path.name
+
+
+# --------------------------------------------------------------------------------------------
+# What the app hands to Streamlit's Markdown renderer (for the no-injection checks)
+# --------------------------------------------------------------------------------------------
+
+# Proto fields Streamlit renders as Markdown: element bodies, labels, tooltips, metric deltas.
+MARKDOWN_FIELDS = {"body", "label", "help", "delta", "title"}
+# Elements whose text is shown as it is (no Markdown): code, plain text, tables, raw HTML we write.
+PLAIN_ELEMENTS = {"code", "text", "dataframe", "arrow_data_frame", "html", "json", "plotly_chart"}
+
+
+def _markdown_strings(message, out: list[str]) -> None:
+    for field, value in message.ListFields():
+        items = list(value) if field.is_repeated else [value]
+        if field.type == field.TYPE_MESSAGE:
+            for item in items:
+                _markdown_strings(item, out)
+        elif field.type == field.TYPE_STRING and field.name in MARKDOWN_FIELDS:
+            out.extend(str(v) for v in items if v)
+
+
+def markdown_strings(at: AppTest) -> list[str]:
+    """Every string of the last run that Streamlit renders as Markdown (bodies, labels, help,
+    metric deltas, expander and popover titles, radio options), main area and sidebar."""
+    out: list[str] = []
+
+    def walk(node) -> None:
+        kind = getattr(node, "type", None)
+        proto = getattr(node, "proto", None)
+        if proto is not None and kind not in PLAIN_ELEMENTS:
+            _markdown_strings(proto, out)
+            if kind == "radio":
+                out.extend(str(o) for o in proto.options)
+        for child in (getattr(node, "children", None) or {}).values():
+            walk(child)
+
+    walk(at._tree)
+    return out
+
+
+def assert_renders_as_plain_text(at: AppTest, payloads: list[str]) -> None:
+    """No Markdown string of the run holds a payload's link, image or HTML in a live form, and
+    each payload that the page shows at all shows literally (after its escapes are resolved)."""
+    from app.plain import shown
+
+    strings = markdown_strings(at)
+    for s in strings:
+        assert "http://" not in s and "https://" not in s, s
+        assert not re.search(r"(?<!\\)\]\(", s), s  # a link or image: [text](address)
+        assert not re.search(r"(?<!\\)<\s*/?\s*[A-Za-z]", s), s  # an HTML tag
+        for payload in payloads:  # shown verbatim, its Markdown would be live
+            assert payload not in s, s
+    visible = " ".join(shown(s) for s in strings)
+    assert any(p in visible for p in payloads), "no payload is shown at all: nothing was tested"

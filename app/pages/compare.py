@@ -5,6 +5,7 @@ from __future__ import annotations
 import streamlit as st
 
 from app import display, state
+from app.plain import md
 from loadcore import units
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure, comparison_summary, forecast_table, to_csv_bytes
@@ -63,9 +64,9 @@ if meeting:
     cols = st.columns(min(len(summary), 4))
     for i, row in enumerate(summary.itertuples(index=False)):
         cols[i % len(cols)].metric(
-            row.scenario,
+            md(row.scenario),
             f"{row.peak_mean:,.0f} MW",
-            f"{row.peak_vs_base:+,.0f} MW vs {names[0]}" if i else None,
+            f"{row.peak_vs_base:+,.0f} MW vs {md(names[0])}" if i else None,
             delta_color="inverse",
             help=f"Highest daily mean, on {row.peak_date:%a %d %b}",
         )

@@ -10,6 +10,7 @@ import pandas as pd
 import streamlit as st
 
 from app import charts, display, state
+from app.plain import md
 from loadcore.calendar import day_types, overrides_from_text
 from loadcore.errors import LoadcoreError
 from loadcore.files import check_upload_size
@@ -32,7 +33,7 @@ def _read_upload(_data: bytes, digest: str, settings: HistorySettings):
 # --------------------------------------------------------------------------------------------
 history = state.history()
 st.info(
-    f"In use: **{state.history_source()}**, {history.start.date()} to "
+    f"In use: **{md(state.history_source())}**, {history.start.date()} to "
     f"{history.end.date()} ({len(history.frame)} days).",
     icon=":material/database:",
 )
@@ -113,7 +114,7 @@ with st.expander("Upload a history file", expanded=False):
             st.caption("The history in use, the model and the scenarios are unchanged.")
         else:
             state.use_history(new, f"uploaded file {upload.name}")
-            st.success(f"Using {upload.name}: {new.start.date()} to {new.end.date()}.")
+            st.success(f"Using {md(upload.name)}: {new.start.date()} to {new.end.date()}.")
             st.rerun()
     if not state.using_demo_data():
         if st.button("Go back to the demo data"):
@@ -143,7 +144,7 @@ elif report.ok:
         icon=":material/warning:",
     )
 for issue in report.warnings:
-    st.markdown(f"- {issue.message} {issue.fix}".strip())
+    st.markdown(f"- {md(issue.message)} {md(issue.fix)}".strip())
 if len(issues):
     with st.expander(f"Every note on the data ({len(issues)})", expanded=not report.ok):
         st.dataframe(issues, hide_index=True, width="stretch")

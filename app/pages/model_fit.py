@@ -8,6 +8,7 @@ import numpy as np
 import streamlit as st
 
 from app import cache, charts, display, state
+from app.plain import md
 from loadcore.calendar import parse_holidays
 from loadcore.errors import LoadcoreError
 from loadcore.files import check_upload_size
@@ -189,7 +190,7 @@ with st.expander("Upload a saved model (JSON)"):
         else:
             state.use_model(loaded, source=upload.name)
             history = state.history()
-            st.success(f"Using the model from {upload.name}.")
+            st.success(f"Using the model from {md(upload.name)}.")
 
 fitted = state.model()
 if fitted is None:

@@ -6,6 +6,7 @@ import pandas as pd
 import streamlit as st
 
 from app import cache, display, state
+from app.plain import md
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure, comparison_summary, meeting_brief_html
 from loadcore.library import (
@@ -30,7 +31,7 @@ if not ok:
     st.caption("Set the environment variable LOADCORE_LIBRARY to a writable file and restart.")
     display.footer()
     st.stop()
-st.caption(f"Library file: `{path}`. Everyone using this file sees the same saved scenarios.")
+st.caption(f"Library file: {md(path)}. Everyone using this file sees the same saved scenarios.")
 fitted = state.model()
 
 # --------------------------------------------------------------------------------------------
@@ -57,7 +58,7 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
             except LoadcoreError as exc:
                 display.show_error(exc, "Not saved")
             else:
-                st.success(f"Saved '{saved.name}' (version {saved.version}).")
+                st.success(f"Saved '{md(saved.name)}' (version {saved.version}).")
 
 # --------------------------------------------------------------------------------------------
 # List and search
@@ -125,7 +126,7 @@ if a.button("Open in the set", key="lib_open", disabled=fitted is None):
         display.show_error(exc, "It does not fit the model in use")
     else:
         state.put_scenario(scenario)
-        st.success(f"'{scenario.name}' is in the set; see the Compare page.")
+        st.success(f"'{md(scenario.name)}' is in the set; see the Compare page.")
 with b.popover("Rename"):
     new_name = st.text_input("New name", value=saved.name, key="lib_new_name")
     if st.button("Rename", key="lib_rename"):
@@ -137,14 +138,14 @@ with c.popover("Duplicate"):
         if display.attempt(lambda: library.duplicate(saved.name, copy_name))[0]:
             st.rerun()
 with d.popover("Delete"):
-    sure = st.checkbox(f"Yes, delete '{saved.name}'", key="lib_sure")
+    sure = st.checkbox(f"Yes, delete '{md(saved.name)}'", key="lib_sure")
     if st.button("Delete", key="lib_delete", disabled=not sure):
         if display.attempt(lambda: library.delete(saved.name, saved.version))[0]:
             st.rerun()
 
 st.caption(
-    f"By {saved.author or 'unknown'}, saved {saved.created_utc}, changed {saved.changed_utc} "
-    f"(version {saved.version}). {saved.note}"
+    f"By {md(saved.author) or 'unknown'}, saved {saved.created_utc}, changed "
+    f"{saved.changed_utc} (version {saved.version}). {md(saved.note)}"
 )
 
 # --------------------------------------------------------------------------------------------

@@ -9,6 +9,7 @@ import pandas as pd
 import streamlit as st
 
 from app import cache, charts, display, state
+from app.plain import md
 from loadcore.calendar import BASE_TYPE
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure
@@ -328,18 +329,18 @@ st.plotly_chart(
 )
 for line in fc.warnings():
     if "range" not in line.lower():
-        st.caption(line)
+        st.caption(md(line))
 if fc.note:
-    st.caption(fc.note)
+    st.caption(md(fc.note))
 
 exists = scenario.name in state.scenarios()
 label = "Replace it in the set" if exists else "Add to the set"
 if exists:
-    st.caption(f"A scenario named '{scenario.name}' is already in the set.")
+    st.caption(f"A scenario named '{md(scenario.name)}' is already in the set.")
 if st.button(label, type="primary", key="scn_add"):
     state.put_scenario(scenario)
     st.success(
-        f"'{scenario.name}' is in the set ({len(state.scenarios())} scenario(s)). "
+        f"'{md(scenario.name)}' is in the set ({len(state.scenarios())} scenario(s)). "
         "See them side by side on the Compare page."
     )
     st.page_link("pages/compare.py", label="Compare the set", icon=":material/stacked_line_chart:")
