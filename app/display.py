@@ -59,6 +59,47 @@ def fmt_delta(delta_c: float, digits: int = 1) -> str:
     return units.format_delta(delta_c, state.temp_unit(), digits)
 
 
+def temperature_input(
+    where: Any,
+    label: str,
+    *,
+    key: str,
+    default_c: float,
+    difference: bool = False,
+    **options: Any,
+) -> float:
+    """A number input showing a temperature in the display unit; returns the value in °C.
+
+    The value is kept in °C by :func:`app.state.typed_temperature`, so switching °C/°F changes
+    what the input shows and not the temperature.
+
+    Parameters
+    ----------
+    where : streamlit container
+        Where to draw it (``st``, a column, a form).
+    label : str
+        The label; the unit symbol is added (``"Peak daily high, °F"``).
+    key : str
+        The widget key.
+    default_c : float
+        The value before anything is typed, °C (a °C difference when ``difference``).
+    difference : bool, default False
+        A temperature difference (a shift, a warming).
+    **options
+        Passed to ``st.number_input`` (``help``, ``disabled``, ``step``...).
+
+    Returns
+    -------
+    float
+        The temperature (or difference) in °C.
+    """
+    value_c = state.typed_temperature(key, default_c, difference=difference)
+    options.setdefault("step", 0.5)
+    options.setdefault("format", "%.1f")
+    where.number_input(f"{label}, {unit_symbol()}", key=key, **options)
+    return value_c
+
+
 # --------------------------------------------------------------------------------------------
 # Messages (their wording is loadcore.texts')
 # --------------------------------------------------------------------------------------------

@@ -34,12 +34,20 @@ Session keys (the only ones shared between pages):
 ``ensemble`` / ``backtest``
     The last weather-ensemble and backtest results with the key of the inputs they were made
     from (:func:`keep_ensemble`, :func:`keep_backtest`).
+``typed_temperatures``
+    dict, widget key -> ``{"c": value, "unit": unit shown, "put": number shown}``: every
+    temperature typed into a temperature input (:func:`typed_temperature`), kept in °C (or as a
+    °C difference), so the unit switch converts what the input shows and never the value.
+``day_edits``
+    The day-by-day table's edits on the Build-a-scenario page, in °C, for the base path they
+    were made on (:func:`day_editor_key`, :func:`day_edits`): they survive the unit switch, which
+    gives the table a new widget key.
 """
 
 from __future__ import annotations
 
 import os
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from pathlib import Path
 from typing import Any
 
@@ -68,6 +76,8 @@ TEMP_UNIT = "temp_unit"
 MEETING = "meeting_view"
 ENSEMBLE = "ensemble"
 BACKTEST = "backtest"
+TYPED = "typed_temperatures"
+DAY_EDITS = "day_edits"
 
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
@@ -357,3 +367,111 @@ def forecasts_for_set(fitted) -> dict:
             st.error(md(f"Scenario '{name}' cannot be forecast: {exc}"))
     st.session_state[FORECASTS] = out
     return out
+
+
+# --------------------------------------------------------------------------------------------
+# Temperatures typed in the display unit, kept in °C (the unit switch changes only the display)
+# --------------------------------------------------------------------------------------------
+
+
+def typed_temperature(key: str, default_c: float, *, difference: bool = False) -> float:
+    """The °C value behind the temperature input ``key``; call it just before drawing the input.
+
+    What the planner typed is kept in °C (``typed_temperatures``). The input's own value is in
+    the unit it was shown in: a value that differs from the one last put there was typed, and
+    is read back to °C in that unit once. When the display unit has changed (or the input was
+    not on the last page shown), the input is given the kept value in the new unit, rounded to
+    0.1 for display only; the value returned stays the one typed. No callback is used, so this
+    works for inputs inside a form.
+
+    Parameters
+    ----------
+    key : str
+        The number input's widget key.
+    default_c : float
+        The value before anything is typed, °C (a °C difference when ``difference``).
+    difference : bool, default False
+        A temperature difference (a shift, a warming): converted by 1.8, without the 32 offset.
+
+    Returns
+    -------
+    float
+        The temperature (or difference) in °C.
+    """
+    unit = temp_unit()
+    session = st.session_state
+    store = session.setdefault(TYPED, {})
+    entry = dict(store.get(key) or {"c": float(default_c), "unit": None, "put": None})
+    if key in session and entry["unit"] is not None and session[key] != entry["put"]:
+        typed = float(session[key])
+        back = units.delta_from_unit if difference else units.from_unit
+        entry.update(c=float(back(typed, entry["unit"])), put=typed)
+    if entry["unit"] != unit or key not in session:
+        there = units.delta_to_unit if difference else units.to_unit
+        put = round(float(there(entry["c"], unit)), 1)
+        session[key] = put
+        entry.update(unit=unit, put=put)
+    store[key] = entry
+    return float(entry["c"])
+
+
+# --------------------------------------------------------------------------------------------
+# The day-by-day table of the scenario builder: edits kept in °C across the unit switch
+# --------------------------------------------------------------------------------------------
+
+
+def day_editor_key(base_id: str) -> str:
+    """The widget key of the day-by-day table for the base path ``base_id`` in the display unit.
+
+    The table shows temperatures in the display unit, so each unit has its own widget key; when
+    the key changes (the unit was switched), the edits made under the old key are first folded
+    into ``day_edits`` in °C, so the new table starts from them. A new base path (other tool
+    settings, another file) starts with no edits.
+    """
+    unit = temp_unit()
+    key = f"scn_editor_{base_id}_{unit}"
+    edits = st.session_state.get(DAY_EDITS)
+    if edits is None or edits["base"] != base_id:
+        edits = {"base": base_id, "temps_c": {}, "types": {}, "key": key, "unit": unit}
+    elif edits["key"] != key:
+        edits = _fold_table_edits(edits)
+        edits.update(key=key, unit=unit)
+    st.session_state[DAY_EDITS] = edits
+    return key
+
+
+def _table_changes(edits: dict) -> dict[int, dict]:
+    """The live edits of the table ``edits["key"]`` (row position -> changed cells)."""
+    table = st.session_state.get(edits["key"]) or {}
+    rows = table.get("edited_rows", {}) if isinstance(table, Mapping) else {}
+    return {int(pos): dict(change) for pos, change in rows.items()}
+
+
+def _fold_table_edits(edits: dict) -> dict:
+    """``edits`` with the live edits of its table added (temperatures converted to °C)."""
+    temps = dict(edits["temps_c"])
+    types = dict(edits["types"])
+    for pos, change in _table_changes(edits).items():
+        if "temperature" in change:
+            value = change["temperature"]
+            temps[pos] = None if value is None else float(units.from_unit(value, edits["unit"]))
+        if "day_type" in change:
+            types[pos] = change["day_type"]
+    return {**edits, "temps_c": temps, "types": types}
+
+
+def kept_day_edits() -> tuple[dict[int, float | None], dict[int, Any]]:
+    """The edits a new table starts from: row -> °C (None for a blank cell), row -> day type."""
+    edits = st.session_state.get(DAY_EDITS)
+    if edits is None:
+        return {}, {}
+    return dict(edits["temps_c"]), dict(edits["types"])
+
+
+def day_edits() -> tuple[dict[int, float | None], dict[int, Any]]:
+    """Every edit of the day-by-day table, kept and live, in °C (call after drawing it)."""
+    edits = st.session_state.get(DAY_EDITS)
+    if edits is None:
+        return {}, {}
+    folded = _fold_table_edits(edits)
+    return folded["temps_c"], folded["types"]

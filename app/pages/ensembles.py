@@ -20,11 +20,8 @@ with st.form("ens_form", border=True):
     a, b, c, d = st.columns(4)
     days = a.number_input("Days ahead", 1, 90, 30, key="ens_days")
     shift = b.number_input("Shift each past year by up to (days)", 0, 14, 3, key="ens_shift")
-    warming = c.number_input(
-        f"Warming added to every trace ({display.unit_symbol()})",
-        value=0.0,
-        step=0.5,
-        key="ens_warm",
+    warming_c = display.temperature_input(
+        c, "Warming added to every trace", key="ens_warm", default_c=0.0, difference=True
     )
     paths = d.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
     a, b = st.columns(2)
@@ -45,7 +42,7 @@ if run:
             fitted,
             days=int(days),
             shift_days=int(shift),
-            warming_c=display.delta_from_display(warming),
+            warming_c=warming_c,
             paths_per_trace=int(paths),
             seed=int(seed),
             threshold_mw=float(threshold) if threshold > 0 else None,

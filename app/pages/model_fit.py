@@ -100,28 +100,18 @@ with st.form("fit_form", border=True):
         "days) are set on the History page.",
     )
     a, b, c = st.columns(3)
-    unit = display.unit_symbol()
-    ref = a.number_input(
-        f"Curve centre, {unit}",
-        value=float(np.round(display.to_display(current.terms.reference_temp_c), 1)),
-        step=0.5,
-        format="%.1f",
+    ref_c = display.temperature_input(
+        a,
+        "Curve centre",
         key="fit_ref",
+        default_c=current.terms.reference_temp_c,
         help="For the smooth curve: the temperature its slope and bend are measured from.",
     )
-    heat = b.number_input(
-        f"Heating base, {unit}",
-        value=float(np.round(display.to_display(current.terms.heating_base_c), 1)),
-        step=0.5,
-        format="%.1f",
-        key="fit_hdd",
+    heat_c = display.temperature_input(
+        b, "Heating base", key="fit_hdd", default_c=current.terms.heating_base_c
     )
-    cool = c.number_input(
-        f"Cooling base, {unit}",
-        value=float(np.round(display.to_display(current.terms.cooling_base_c), 1)),
-        step=0.5,
-        format="%.1f",
-        key="fit_cdd",
+    cool_c = display.temperature_input(
+        c, "Cooling base", key="fit_cdd", default_c=current.terms.cooling_base_c
     )
     with st.expander("Search limits"):
         a, b, c, d, e = st.columns(5)
@@ -138,9 +128,9 @@ if go:
         country, subdivision = (None, None) if holidays == "none" else parse_holidays(holiday_code)
         terms = TermSpec(
             response=response,
-            reference_temp_c=float(display.from_display(ref)),
-            heating_base_c=float(display.from_display(heat)),
-            cooling_base_c=float(display.from_display(cool)),
+            reference_temp_c=ref_c,
+            heating_base_c=heat_c,
+            cooling_base_c=cool_c,
             annual_harmonics=int(harmonics),
             trend=bool(trend),
         )

@@ -89,14 +89,8 @@ def _from_tools(days: int) -> pd.Series | None:
     )
     try:
         if base_kind == "constant":
-            value = st.number_input(
-                f"Temperature, {unit}",
-                value=float(np.round(display.to_display(25.0), 1)),
-                step=0.5,
-                format="%.1f",
-                key="scn_const",
-            )
-            path = constant_path(start, days, float(display.from_display(value)))
+            value_c = display.temperature_input(st, "Temperature", key="scn_const", default_c=25.0)
+            path = constant_path(start, days, value_c)
         elif base_kind == "copy":
             default = (start - pd.DateOffset(years=1)).date()
             first = history.start.date()
@@ -114,13 +108,8 @@ def _from_tools(days: int) -> pd.Series | None:
         cols = st.columns(2)
         with cols[0].container(border=True):
             wave = st.checkbox("Add a heat wave", value=True, key="scn_hw_on")
-            peak = st.number_input(
-                f"Peak daily high, {unit}",
-                value=float(np.round(display.to_display(41.0), 1)),
-                step=0.5,
-                format="%.1f",
-                key="scn_hw_peak",
-                disabled=not wave,
+            peak_c = display.temperature_input(
+                st, "Peak daily high", key="scn_hw_peak", default_c=41.0, disabled=not wave
             )
             a, b, c = st.columns(3)
             hw_len = a.number_input("Days", 1, MAX_DAYS, 6, key="scn_hw_len", disabled=not wave)
@@ -128,39 +117,26 @@ def _from_tools(days: int) -> pd.Series | None:
             hw_day = c.number_input("Starts on day", 1, 366, 4, key="scn_hw_day", disabled=not wave)
         with cols[1].container(border=True):
             snap = st.checkbox("Add a cold snap", value=False, key="scn_cs_on")
-            trough = st.number_input(
-                f"Lowest daily high, {unit}",
-                value=float(np.round(display.to_display(-8.0), 1)),
-                step=0.5,
-                format="%.1f",
-                key="scn_cs_low",
-                disabled=not snap,
+            trough_c = display.temperature_input(
+                st, "Lowest daily high", key="scn_cs_low", default_c=-8.0, disabled=not snap
             )
             a, b, c = st.columns(3)
             cs_len = a.number_input("Days", 1, MAX_DAYS, 5, key="scn_cs_len", disabled=not snap)
             cs_ramp = b.number_input("Ramp days", 0, 30, 1, key="scn_cs_ramp", disabled=not snap)
             cs_day = c.number_input("Starts on day", 1, 366, 1, key="scn_cs_day", disabled=not snap)
-        shift = st.number_input(
-            f"Shift every day by ({unit}, may be negative)",
-            value=0.0,
-            step=0.5,
-            format="%.1f",
+        shift_c = display.temperature_input(
+            st,
+            "Shift every day by (may be negative)",
             key="scn_shift",
+            default_c=0.0,
+            difference=True,
         )
         if wave:
-            path = heat_wave(
-                path, float(display.from_display(peak)), int(hw_len), int(hw_ramp), int(hw_day) - 1
-            )
+            path = heat_wave(path, peak_c, int(hw_len), int(hw_ramp), int(hw_day) - 1)
         if snap:
-            path = cold_snap(
-                path,
-                float(display.from_display(trough)),
-                int(cs_len),
-                int(cs_ramp),
-                int(cs_day) - 1,
-            )
-        if shift:
-            path = shift_path(path, display.delta_from_display(shift))
+            path = cold_snap(path, trough_c, int(cs_len), int(cs_ramp), int(cs_day) - 1)
+        if shift_c:
+            path = shift_path(path, shift_c)
     except LoadcoreError as exc:
         display.show_error(exc, "The path tools could not build this path")
         return None
@@ -192,6 +168,15 @@ def _from_file() -> Scenario | None:
         type=["csv", "txt", "json"],
         key="scn_upload",
     )
+    file_unit = st.radio(
+        "Temperatures in the file are in",
+        ["C", "F"],
+        index=["C", "F"].index(state.temp_unit()),
+        format_func=display.unit_symbol,
+        horizontal=True,
+        key="scn_file_unit",
+        help="The file's own unit; the °C/°F switch in the sidebar changes only what is shown.",
+    )
     if upload is None:
         return None
     data = upload.getvalue()
@@ -201,7 +186,7 @@ def _from_file() -> Scenario | None:
             data,
             hashlib.sha256(data).hexdigest(),
             upload.name,
-            state.temp_unit(),
+            file_unit,
             fitted.history_end.date().isoformat(),
         )
     except LoadcoreError as exc:
@@ -251,20 +236,26 @@ st.caption(
     "model's holiday calendar; to use a type such as a shutdown or a bridge day, add it as a "
     "special period on the History page (with past examples) and fit again."
 )
+base_c = base_temps.to_numpy(dtype=float)
+base_id = hashlib.sha256(
+    dates.asi8.tobytes() + base_c.tobytes() + "|".join(start_types).encode()
+).hexdigest()[:12]
+editor_key = state.day_editor_key(base_id)
+kept_temps, kept_types = state.kept_day_edits()
+shown_c = base_c.copy()
+for pos, value in kept_temps.items():
+    shown_c[pos] = np.nan if value is None else value
 table = pd.DataFrame(
     {
         "date": dates.date,
         "weekday": dates.strftime("%a"),
-        "temperature": np.asarray(display.to_display(base_temps.to_numpy()), float),
-        "day_type": start_types,
+        "temperature": np.asarray(display.to_display(shown_c), float),
+        "day_type": [kept_types.get(i, t) for i, t in enumerate(start_types)],
     }
 )
-fingerprint = hashlib.sha256(
-    pd.util.hash_pandas_object(table, index=False).to_numpy().tobytes()
-).hexdigest()[:12]
-edited = st.data_editor(
+st.data_editor(
     table,
-    key=f"scn_editor_{fingerprint}",
+    key=editor_key,
     hide_index=True,
     num_rows="fixed",
     disabled=["date", "weekday"],
@@ -280,14 +271,15 @@ edited = st.data_editor(
 # --------------------------------------------------------------------------------------------
 # The scenario: loadcore checks it, then the forecast is recomputed (no refit)
 # --------------------------------------------------------------------------------------------
-temps_display = pd.to_numeric(edited["temperature"], errors="coerce").to_numpy(dtype=float)
-raw = pd.Series(edited["temperature"].to_numpy(dtype=object), index=dates, dtype=object)
-finite = np.isfinite(temps_display)
-raw[finite] = np.asarray(display.from_display(temps_display[finite]), dtype=float)
-chosen_types = [
-    "" if (t is None or str(t) == cal) else str(t)
-    for t, cal in zip(edited["day_type"].to_numpy(dtype=object), calendar, strict=True)
-]
+# Unedited days keep their °C values exactly; edited ones were converted once, when typed.
+edited_temps, edited_types = state.day_edits()
+raw = pd.Series(base_c, index=dates, dtype=object)
+for pos, value in edited_temps.items():
+    raw.iloc[pos] = value
+chosen_types = []
+for pos, cal in enumerate(calendar):
+    picked_type = edited_types.get(pos, start_types[pos])
+    chosen_types.append("" if picked_type is None or str(picked_type) == cal else str(picked_type))
 try:
     scenario = make_scenario(name, raw, chosen_types, model_end=fitted.history_end)
     fc = cache.forecast(fitted, scenario)
