@@ -100,8 +100,12 @@ def demo_model():
 
 
 def texts(at: AppTest, kind: str) -> list[str]:
-    """The values of every element of one kind (``"error"``, ``"warning"``, ``"markdown"``...)."""
-    return [str(e.value) for e in at.get(kind)]
+    """What a reader sees in every element of one kind (``"error"``, ``"warning"``,
+    ``"markdown"``...): the element's text with the escapes that keep user text plain resolved
+    (app/plain.py; the raw strings are checked by ``markdown_strings``)."""
+    from app.plain import shown
+
+    return [shown(str(e.value)) for e in at.get(kind)]
 
 
 def assert_no_exception(at: AppTest) -> None:
