@@ -62,6 +62,10 @@ MIN_FIT_DAYS = 365
 # is tested (common practice, no source).
 DEFAULT_SPAN_DAYS = 364
 
+# Bands of days ahead that coverage and accuracy are also reported over: the first days, the
+# rest of the first two weeks in two (our choice, as the product's interval checks use them).
+HORIZON_BANDS = ((1, 4), (5, 9), (10, 14))
+
 # Ex-post CRPS and PIT come from simulated paths; this many per origin.
 EX_POST_PATHS = 1000
 
@@ -149,6 +153,11 @@ class BacktestResult:
         ``pit``.
     mode : str
     levels : tuple of float
+    by_band : pandas.DataFrame
+        The measures of ``by_horizon`` over bands of days ahead (:data:`HORIZON_BANDS`, and the
+        days past 14 as one band): ``band`` ("1-4", "5-9", "10-14"), ``first_day``,
+        ``last_day``, then the same columns. Per-day coverage rests on one day per origin; a
+        band pools several, which is what a coverage check can read.
     """
 
     by_horizon: pd.DataFrame
@@ -157,6 +166,7 @@ class BacktestResult:
     forecasts: pd.DataFrame = field(repr=False)
     mode: str
     levels: tuple[float, ...]
+    by_band: pd.DataFrame = field(default_factory=pd.DataFrame, repr=False)
 
     def pit_histogram(self, bins: int = 10) -> tuple[np.ndarray, np.ndarray]:
         """Counts and edges of the PIT values in ``bins`` equal bins on [0, 1]."""
@@ -251,6 +261,21 @@ def _scores_block(
     crps = frame["crps"].to_numpy(dtype=float)
     out["crps"] = float(np.nanmean(crps)) if np.isfinite(crps).any() else float("nan")
     return out
+
+
+def _band_table(
+    forecasts: pd.DataFrame, levels: list[tuple[float, float, float]], horizon: int
+) -> pd.DataFrame:
+    """The scores over each band of days ahead (:data:`HORIZON_BANDS`, then 15..horizon)."""
+    bands = [(a, min(b, horizon)) for a, b in HORIZON_BANDS if a <= horizon]
+    if horizon > HORIZON_BANDS[-1][1]:
+        bands.append((HORIZON_BANDS[-1][1] + 1, horizon))
+    rows = []
+    for a, b in bands:
+        group = forecasts[(forecasts["horizon"] >= a) & (forecasts["horizon"] <= b)]
+        label = f"{a}-{b}" if b > a else f"{a}"
+        rows.append({"band": label, "first_day": a, "last_day": b, **_scores_block(group, levels)})
+    return pd.DataFrame(rows)
 
 
 def backtest(
@@ -428,6 +453,7 @@ def backtest(
     for h, group in forecasts.groupby("horizon", sort=True):
         by_h.append({"horizon": int(h), **_scores_block(group, level_probs)})
     by_horizon = pd.DataFrame(by_h)
+    by_band = _band_table(forecasts, level_probs, horizon)
     overall = _scores_block(forecasts, level_probs)
 
     orders = _describe_orders(base)
@@ -456,6 +482,7 @@ def backtest(
         forecasts=forecasts,
         mode=mode,
         levels=tuple(lv for lv, _, _ in level_probs),
+        by_band=by_band,
     )
 
 

@@ -168,6 +168,24 @@ def test_scores_by_horizon_match_the_long_table(ex_post):
     assert row["mase"] == pytest.approx(np.mean(np.abs(one["actual"] - one["mean"]) / one["scale"]))
 
 
+def test_scores_by_band_pool_the_days_of_each_band(ex_post):
+    """Coverage and accuracy per band of days ahead (1-4, 5-7 for a 7-day horizon) are the
+    measures over the pooled rows of the long table (loadcore.scores; common practice, no
+    source)."""
+    from loadcore.scores import interval_coverage, mape
+
+    frame = ex_post.forecasts
+    table = ex_post.by_band.set_index("band")
+    assert list(table.index) == ["1-4", "5-7"]
+    for band, (a, b) in {"1-4": (1, 4), "5-7": (5, 7)}.items():
+        rows = frame[frame["horizon"].between(a, b)]
+        assert table.loc[band, "n"] == rows["actual"].notna().sum()
+        assert table.loc[band, "coverage_95"] == pytest.approx(
+            interval_coverage(rows["actual"], rows["lower_95"], rows["upper_95"])
+        )
+        assert table.loc[band, "mape"] == pytest.approx(mape(rows["actual"], rows["mean"]))
+
+
 def test_ex_ante_uses_nothing_after_the_origin(history):
     """Changing temperatures and demand after the only origin leaves the forecast unchanged."""
     first = backtest(history, _settings(), horizon=7, origins=1, mode="ex_ante", seed=2)
