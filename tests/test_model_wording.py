@@ -44,3 +44,35 @@ def test_meanings_can_be_worded_in_fahrenheit(demo_model):
     assert f"{t * 9 / 5 + 32:.1f} °F" in demo_model.describe_lowest_demand(temp_unit="F")
     with pytest.raises(Exception, match="not a temperature unit"):
         demo_model.coefficient_table(temp_unit="K")
+
+
+def test_weekly_error_terms_name_their_lag_in_days_and_in_weeks():
+    """Weekly term k sits at lag 7 k days: k = 2 is lag 14, "two weeks earlier" (calendar
+    arithmetic, no source). The model file's statsmodels-style names map to the same terms."""
+    from loadcore.model.statespace import own_name, statsmodels_name
+    from loadcore.model.terms import TermSpec
+    from loadcore.model.wording import coefficient_meaning, term_label
+
+    for k, lag, words in ((1, 7, "a week"), (2, 14, "two weeks"), (3, 21, "three weeks")):
+        for kind, verb, when in (("ar", "AR", "earlier"), ("ma", "MA", "later")):
+            name = f"error_weekly_{kind}_{k}"
+            assert term_label(name) == f"error weekly {verb}, lag {lag}"
+            meaning = coefficient_meaning(
+                name, 0.2, terms=TermSpec(), log=True, demand_unit="MW", base_type="midweek"
+            )
+            assert f"same weekday {words} {when}" in meaning
+            assert statsmodels_name(name, 7) == f"{kind}.S.L{lag}"
+            assert own_name(f"{kind}.S.L{lag}", 7) == name
+    assert "a week" not in coefficient_meaning(
+        "error_weekly_ar_2", 0.2, terms=TermSpec(), log=True, demand_unit="MW", base_type="midweek"
+    )
+
+
+def test_term_labels_carry_no_unit(demo_model):
+    """Labels are unit-free, so the table reads the same in °C and °F; the unit is in the
+    meaning column."""
+    from loadcore.model.wording import term_label
+
+    for name in demo_model.param_names:
+        label = term_label(name, demo_model.orders.period)
+        assert "°" not in label and label != name
