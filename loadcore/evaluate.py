@@ -203,6 +203,14 @@ class BacktestResult:
                     for c in cols
                 ]
             )
+        for _, row in self.by_band.iterrows():
+            rows.append(
+                [f"days {row['band']}"]
+                + [
+                    fmt.get(c, "{:.1f}").format(row[c]) if np.isfinite(row[c]) else "-"
+                    for c in cols
+                ]
+            )
         overall = self.summary
         rows.append(
             ["all"]

@@ -131,6 +131,8 @@ def _check_structure(result, history):
     assert "AR 1" in result.summary["orders"]
     text = result.to_text()
     assert "days ahead" in text and "all" in text and "not an operating" in text
+    for band in result.by_band["band"]:
+        assert f"days {band}" in text  # coverage per horizon band is printed
 
 
 def test_ex_post_structure(ex_post, history):
