@@ -84,7 +84,12 @@ def _status() -> None:
             st.caption("Model: none fitted yet")
         else:
             st.caption(f"Model: fitted on data to {fitted.history_end.date().isoformat()}")
-        st.caption(f"Scenarios in the set: {len(state.scenarios())}")
+        count = f"Scenarios in the set: {len(state.scenarios())}"
+        if fitted is not None and state.scenarios():
+            _, problems = state.forecasts_for_set(fitted)
+            if problems:
+                count += f" ({len(problems)} cannot be forecast with this model; see Compare)"
+        st.caption(count)
 
 
 COMPARE = PAGES["Plan"][3]

@@ -1,5 +1,8 @@
 """The session: its keys, and every transition between its states.
 
+Longer than 400 lines on purpose: the project's rule is that one module owns every session key
+and every transition, so that a page can never change the session behind the others' backs.
+
 This module owns ``st.session_state``. Pages read the session through the getters below and change
 it only through the transition functions (``use_history``, ``use_model``, ``put_scenario``...);
 they never write a session key of their own (their widgets' keys are theirs). A transition is
@@ -24,7 +27,16 @@ Session keys (the only ones shared between pages):
 ``scenarios``
     dict, scenario name -> ``loadcore.scenario.Scenario``, in the order they were added.
 ``forecasts``
-    dict, scenario name -> ``loadcore.model.Forecast`` for the current model (recomputed, cached).
+    dict, scenario name -> ``loadcore.model.Forecast`` for the current model (recomputed, cached;
+    :func:`forecasts_for_set` also returns the scenarios the model cannot forecast, and why).
+``scenario_kinds``
+    dict, scenario name -> how it was made: ``"seasonal_normal"`` (a plain seasonal normal from
+    the path tools, the default base of a comparison), ``"built"``, ``"file"`` or ``"library"``.
+``compare_choice``
+    :class:`CompareChoice` fields as a dict (``hidden``: names taken off the chart, ``base``,
+    ``tail_days``): the one set of choices the Compare page and the meeting view both follow.
+    Bound to the Compare page's ``cmp_shown``, ``cmp_base`` and ``cmp_tail`` widgets through
+    :func:`sync_compare_widgets` and :func:`compare_chosen`.
 ``temp_unit``
     ``"C"`` or ``"F"`` (a ``loadcore.units.Unit``): the unit for every temperature typed or shown
     (°C inside). Set through :func:`set_temp_unit`, bound to the sidebar's ``unit_choice`` radio.
@@ -48,13 +60,13 @@ from __future__ import annotations
 
 import os
 from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
 import streamlit as st
 
 from app import cache
-from app.plain import md
 from loadcore import units
 from loadcore.calendar import CalendarSpec
 from loadcore.errors import LoadcoreError
@@ -76,12 +88,20 @@ TEMP_UNIT = "temp_unit"
 MEETING = "meeting_view"
 ENSEMBLE = "ensemble"
 BACKTEST = "backtest"
+KINDS = "scenario_kinds"
+COMPARE = "compare_choice"
 TYPED = "typed_temperatures"
 DAY_EDITS = "day_edits"
 
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
 MEETING_WIDGET = "meeting_choice"
+# Keys of the Compare page's widgets bound to ``compare_choice``.
+SHOWN_WIDGET = "cmp_shown"
+BASE_WIDGET = "cmp_base"
+TAIL_WIDGET = "cmp_tail"
+# Days of recorded demand drawn before the scenarios unless the planner chooses otherwise.
+DEFAULT_TAIL_DAYS = 56
 
 DEMO_SOURCE = "demo data (Calder Basin Power & Light)"
 
@@ -279,12 +299,19 @@ def use_model(fitted, *, source: str | None = None) -> None:
         use_history(fitted.history, f"the history saved in {source}")
 
 
-def put_scenario(scenario) -> bool:
-    """Add ``scenario`` to the set, or replace the one of the same name; True if it replaced."""
+def put_scenario(scenario, *, kind: str = "built") -> bool:
+    """Add ``scenario`` to the set, or replace the one of the same name; True if it replaced.
+
+    ``kind`` says how it was made (``"seasonal_normal"``, ``"built"``, ``"file"``,
+    ``"library"``); a plain seasonal normal is the default base of a comparison.
+    """
     current = dict(st.session_state[SCENARIOS])
     replaced = scenario.name in current
     current[scenario.name] = scenario
     st.session_state[SCENARIOS] = current
+    kinds = dict(st.session_state.get(KINDS, {}))
+    kinds[scenario.name] = str(kind)
+    st.session_state[KINDS] = kinds
     return replaced
 
 
@@ -293,6 +320,17 @@ def remove_scenarios(names: Iterable[str]) -> None:
     drop = set(names)
     st.session_state[SCENARIOS] = {
         name: scenario for name, scenario in st.session_state[SCENARIOS].items() if name not in drop
+    }
+    st.session_state[KINDS] = {
+        name: kind for name, kind in st.session_state.get(KINDS, {}).items() if name not in drop
+    }
+
+
+def move_scenarios(moved: Iterable[Any]) -> None:
+    """Put moved scenarios (same names, new dates) in place of the old ones, order kept."""
+    new = {scenario.name: scenario for scenario in moved}
+    st.session_state[SCENARIOS] = {
+        name: new.get(name, scenario) for name, scenario in st.session_state[SCENARIOS].items()
     }
 
 
@@ -354,19 +392,96 @@ def kept_backtest(hist, settings):
 # --------------------------------------------------------------------------------------------
 
 
-def forecasts_for_set(fitted) -> dict:
-    """Forecast every scenario in the set with ``fitted``; errors are shown and that one skipped.
+def forecasts_for_set(fitted) -> tuple[dict, dict]:
+    """Forecast every scenario in the set with ``fitted`` (cached in app/cache.py).
 
-    The result is also kept in ``st.session_state["forecasts"]``.
+    Returns
+    -------
+    (dict, dict)
+        Scenario name -> Forecast for those the model can forecast (also kept in
+        ``st.session_state["forecasts"]``), and name -> LoadcoreError for the others (a window
+        that starts before the model's history ends, a day type the model does not know...).
     """
-    out = {}
+    out, problems = {}, {}
     for name, scenario in scenarios().items():
         try:
             out[name] = cache.forecast(fitted, scenario)
         except LoadcoreError as exc:
-            st.error(md(f"Scenario '{name}' cannot be forecast: {exc}"))
+            problems[name] = exc
     st.session_state[FORECASTS] = out
-    return out
+    return out, problems
+
+
+# --------------------------------------------------------------------------------------------
+# The Compare page's choices, shared with the meeting view
+# --------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class CompareChoice:
+    """What the Compare page and the meeting view show.
+
+    Attributes
+    ----------
+    shown : tuple of str
+        Scenarios on the chart, in the set's order (every forecast one unless taken off).
+    base : str or None
+        The scenario the others are compared with (one of ``shown``; None when nothing is shown).
+    tail_days : int
+        Days of recorded demand drawn before the scenarios.
+    """
+
+    shown: tuple[str, ...]
+    base: str | None
+    tail_days: int
+
+
+def _default_base(shown: list[str]) -> str | None:
+    """The first plain seasonal normal shown, else the first shown whose name says "normal",
+    else the first shown."""
+    kinds = st.session_state.get(KINDS, {})
+    for name in shown:
+        if kinds.get(name) == "seasonal_normal":
+            return name
+    for name in shown:
+        if "normal" in name.casefold():
+            return name
+    return shown[0] if shown else None
+
+
+def compare_choice(names: Iterable[str]) -> CompareChoice:
+    """The choices for the forecast scenarios ``names`` (in the set's order)."""
+    kept = st.session_state.get(COMPARE, {})
+    hidden = set(kept.get("hidden", ()))
+    shown = [name for name in names if name not in hidden]
+    base = kept.get("base")
+    if base not in shown:
+        base = _default_base(shown)
+    tail = int(kept.get("tail_days", DEFAULT_TAIL_DAYS))
+    return CompareChoice(tuple(shown), base, tail)
+
+
+def sync_compare_widgets(names: Iterable[str]) -> CompareChoice:
+    """Show the kept choices in the Compare page's widgets (before they are drawn): the widgets
+    forget their values while the meeting view hides them, the choices do not."""
+    choice = compare_choice(names)
+    st.session_state[SHOWN_WIDGET] = list(choice.shown)
+    if choice.base is not None:
+        st.session_state[BASE_WIDGET] = choice.base
+    st.session_state[TAIL_WIDGET] = choice.tail_days
+    return choice
+
+
+def compare_chosen(names: Iterable[str]) -> None:
+    """Callback of the Compare page's widgets: keep what they now show."""
+    session = st.session_state
+    shown = list(session.get(SHOWN_WIDGET, []))
+    kept = dict(session.get(COMPARE, {}))
+    kept["hidden"] = [name for name in names if name not in shown]
+    if session.get(BASE_WIDGET) in shown:
+        kept["base"] = session[BASE_WIDGET]
+    kept["tail_days"] = int(session.get(TAIL_WIDGET, DEFAULT_TAIL_DAYS))
+    session[COMPARE] = kept
 
 
 # --------------------------------------------------------------------------------------------

@@ -184,7 +184,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
                 assert f"{day:%Y-%m-%d}" in text
             _shot(page, "04_compare")
             with page.expect_download() as info:
-                page.get_by_role("button", name="Download every scenario's forecast (CSV)").click()
+                page.get_by_role("button", name="Download the forecasts shown (CSV)").click()
             saved = tmp_path / "download.csv"
             info.value.save_as(saved)
             rows = list(csv.DictReader(io.StringIO(saved.read_text(encoding="utf-8"))))

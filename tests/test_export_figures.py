@@ -114,3 +114,28 @@ def test_the_brief_embeds_the_same_figure():
         # the HTML writer spells times without microseconds; the values are the same
         assert list(pd.to_datetime(got.pop("x"))) == list(pd.to_datetime(want.pop("x")))
         assert got == want
+
+
+def test_the_legend_has_one_entry_per_scenario_below_the_chart():
+    """Five scenarios give five legend entries (their means), plus the recorded demand and one
+    entry for the out-of-range marker; bands and markers share their scenario's legend group."""
+    forecasts = [
+        make_forecast(f"s{i}", level_mw=1900 + 60 * i, out_idx=(1,) if i in (2, 4) else (), seed=i)
+        for i in range(5)
+    ]
+    fig = comparison_figure(forecasts, history_tail=_history())
+    shown = [t.name for t in fig.data if t.showlegend is not False]
+    assert shown == [
+        "recorded demand",
+        "s0: mean",
+        "s1: mean",
+        "s2: mean",
+        "s2: outside the fitted range",
+        "s3: mean",
+        "s4: mean",
+    ]
+    for trace in fig.data[1:]:
+        assert trace.legendgroup and trace.legendgroup.startswith("scenario-")
+    assert fig.layout.legend.y < 0  # below the plot, clear of the toolbar
+    means = [t for t in fig.data if t.name and t.name.endswith(": mean")]
+    assert len({(t.line.color, t.line.dash) for t in means}) == 5

@@ -52,7 +52,8 @@ def style_figure(
     font_size : int, default 14
         Base font size, points; above 16 the margins widen for a projector.
     legend_top : bool, default True
-        A horizontal legend above the plot.
+        A horizontal legend (above the plot; :func:`comparison_figure` moves its own below, clear
+        of the chart's toolbar).
     """
     big = font_size > 16
     fig.update_layout(
@@ -97,15 +98,19 @@ def comparison_figure(
     demand_kind : {"peak", "total"}, default "peak"
         Whether daily demand is the daily peak or the daily total (axis title only).
     meeting : bool, default False
-        Large type and a tall chart for a projector; the bands are left out of the legend.
+        Large type and a tall chart for a projector.
 
     Returns
     -------
     plotly.graph_objects.Figure
         Traces in order: recorded demand (when given); then per scenario, for each level from the
         widest, the band's upper edge and its lower edge (filled to the upper), the mean, and the
-        out-of-range markers when the scenario has such days. User text (scenario names, the
-        demand unit) is HTML-escaped.
+        out-of-range markers when the scenario has such days. The legend, below the chart, has
+        one entry per scenario (its mean; its bands and markers belong to the same legend group,
+        so they follow it when it is hidden) and one entry for the out-of-range marker, on the
+        first scenario that has such days. Each scenario has its colour and line pattern
+        (:mod:`loadcore.export.palette`). User text (scenario names, the demand unit) is
+        HTML-escaped.
     """
     import plotly.graph_objects as go
 
@@ -128,10 +133,21 @@ def comparison_figure(
             )
         )
     first_days = []
+    marker_in_legend = False
     for i, (fc, name) in enumerate(zip(items, names, strict=True)):
         frame = forecast_frame(fc, i)
         first_days.append(frame["date"].min())
-        _add_scenario(fig, frame, forecast_levels(fc), i, html.escape(name), unit, du, meeting)
+        marker_in_legend |= _add_scenario(
+            fig,
+            frame,
+            forecast_levels(fc),
+            i,
+            html.escape(name),
+            unit,
+            du,
+            meeting,
+            marker_legend=not marker_in_legend,
+        )
     if first_days and not history.empty:
         first = min(first_days)
         fig.add_shape(
@@ -160,6 +176,19 @@ def comparison_figure(
         fig,
         height=MEETING_HEIGHT if meeting else SCREEN_HEIGHT,
         font_size=MEETING_FONT if meeting else SCREEN_FONT,
+        legend_top=False,
+    )
+    # The legend below the plot, clear of the toolbar in the chart's top right corner.
+    fig.update_layout(
+        legend={
+            "orientation": "h",
+            "yanchor": "top",
+            "y": -0.14 if meeting else -0.12,
+            "xanchor": "left",
+            "x": 0,
+            "groupclick": "togglegroup",
+        },
+        margin={"b": 170 if meeting else 110},
     )
     return fig
 
@@ -173,8 +202,11 @@ def _add_scenario(
     unit: units.Unit,
     demand_unit: str,
     meeting: bool,
-) -> None:
-    """One scenario's bands (widest first), mean line and out-of-range markers."""
+    *,
+    marker_legend: bool,
+) -> bool:
+    """One scenario's bands (widest first), mean line and out-of-range markers; True when the
+    markers were drawn with a legend entry (``marker_legend`` and days outside the range)."""
     import plotly.graph_objects as go
 
     colour = palette.scenario_colour(position)
@@ -202,7 +234,7 @@ def _add_scenario(
                 fillcolor=palette.band_fill(colour, alphas.get(level, BAND_ALPHAS[-1])),
                 legendgroup=group,
                 name=f"{label}: {interval_levels.level_label(level)}% interval",
-                showlegend=not meeting,
+                showlegend=False,
                 hoverinfo="skip",
             )
         )
@@ -211,7 +243,11 @@ def _add_scenario(
             x=frame["date"],
             y=frame["mean"].astype(float),
             mode="lines",
-            line={"color": colour, "width": 3 if meeting else 2},
+            line={
+                "color": colour,
+                "width": 3 if meeting else 2,
+                "dash": palette.scenario_dash(position),
+            },
             legendgroup=group,
             name=f"{label}: mean",
             hovertemplate="%{x|%Y-%m-%d}: %{y:,.0f} "
@@ -223,7 +259,7 @@ def _add_scenario(
     )
     flagged = frame[frame["out_of_range"].astype(bool)]
     if flagged.empty:
-        return
+        return False
     shown = units.to_unit(flagged["temperature_c"].astype(float), unit)
     by = units.delta_to_unit(flagged["out_of_range_by_c"].astype(float).abs(), unit)
     sign = units.symbol(unit)
@@ -240,6 +276,7 @@ def _add_scenario(
             },
             legendgroup=group,
             name=f"{label}: outside the fitted range",
+            showlegend=marker_legend,
             customdata=np.column_stack([np.asarray(shown), np.asarray(by)]),
             hovertemplate=(
                 "%{x|%Y-%m-%d}: %{customdata[0]:.1f} "
@@ -252,6 +289,7 @@ def _add_scenario(
             ),
         )
     )
+    return marker_legend
 
 
 def figure_html(fig: go.Figure, div_id: str) -> str:

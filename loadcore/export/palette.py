@@ -1,8 +1,10 @@
 """The one palette: colours and type for every chart and for the meeting brief.
 
 The app's pages and the offline brief draw with these, so a scenario, a day type or a warning looks
-the same on screen and on paper. The colours are our own choice (muted, readable on a projector,
-and distinct for the common forms of colour blindness when paired with the marker shapes below).
+the same on screen and on paper. The colours are our own choice: the scenario colours were picked by a
+search for eight colours that stay far apart in CIELAB for normal vision and under simulated
+protanopia, deuteranopia and tritanopia, each with at least 3:1 contrast against white
+(tests/test_export_palette.py checks both); each scenario also has its own line pattern.
 The page colours are kept in step with ``.streamlit/config.toml``.
 """
 
@@ -25,15 +27,17 @@ TEMPERATURE = "#B5651D"
 
 # Scenario lines, in the order scenarios are added to the set.
 SCENARIOS = (
-    "#1F6F78",  # deep teal
-    "#C8553D",  # brick
-    "#5E548E",  # slate violet
-    "#7A8B3A",  # moss
-    "#2E5C8A",  # harbour blue
-    "#C99A2E",  # mustard
-    "#8E4162",  # mulberry
-    "#4F772D",  # fern
+    "#1F6F78",  # deep teal (the app's primary colour)
+    "#E36504",  # pumpkin
+    "#333AB6",  # indigo
+    "#CC7C66",  # clay
+    "#803790",  # plum
+    "#8487C3",  # periwinkle
+    "#A0000E",  # oxblood
+    "#B869F0",  # lilac
 )
+# Line patterns, in the same order: a second cue besides the colour (plotly dash names).
+SCENARIO_DASHES = ("solid", "dash", "dot", "dashdot", "longdash", "longdashdot", "solid", "dash")
 
 # Fitted temperature range band and the marker for days outside it.
 RANGE_BAND = "rgba(122, 139, 58, 0.14)"
@@ -61,6 +65,11 @@ FONT_FAMILY = "Arial, Helvetica, Liberation Sans, DejaVu Sans, sans-serif"
 def scenario_colour(index: int) -> str:
     """Colour for the scenario at position ``index`` in the set (wraps around)."""
     return SCENARIOS[index % len(SCENARIOS)]
+
+
+def scenario_dash(index: int) -> str:
+    """Line pattern for the scenario at position ``index`` in the set (wraps around)."""
+    return SCENARIO_DASHES[index % len(SCENARIO_DASHES)]
 
 
 def day_type_colours(day_types: Sequence[str]) -> dict[str, str]:

@@ -9,7 +9,7 @@
 - :mod:`~loadcore.scenario.csv_files`: scenario CSV files (°F only at this edge).
 """
 
-from .core import Scenario, make_scenario
+from .core import Scenario, make_scenario, same_days_after
 from .csv_files import read_scenario_csv, write_scenario_csv
 from .definition import DEFINITION_KIND, DEFINITION_VERSION
 from .paths import (
@@ -38,6 +38,7 @@ __all__ = [
     "heat_wave",
     "make_scenario",
     "read_scenario_csv",
+    "same_days_after",
     "seasonal_normal_path",
     "shift_path",
     "write_scenario_csv",

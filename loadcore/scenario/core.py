@@ -111,6 +111,13 @@ class Scenario:
         filled = self.day_types_with(calendar_types)
         return Scenario(self.name, self.dates, self.temperature_c, filled)
 
+    def moved_to(self, start: Any) -> Scenario:
+        """The same scenario on other dates: name, temperatures and own day types day by day,
+        on consecutive days from ``start`` (for a window that no longer fits a newer model)."""
+        first = values.parse_date(start, f"scenario {self.name!r}, new first date")
+        dates = pd.date_range(first, periods=self.horizon, freq="D", name="date")
+        return Scenario(self.name, dates, self.temperature_c.copy(), self.day_types)
+
     def to_frame(self) -> pd.DataFrame:
         """One row per day: ``date``, ``temperature_c`` (°C), ``day_type`` ("" = from the calendar)."""
         return pd.DataFrame(
@@ -247,3 +254,27 @@ def make_scenario(
     if model_end is not None:
         scenario.check_start(model_end)
     return scenario
+
+
+def same_days_after(start: Any, history_end: Any) -> pd.Timestamp:
+    """The same calendar day as ``start`` in the first later year in which it falls after
+    ``history_end`` (29 February becomes 28 February in a common year).
+
+    Parameters
+    ----------
+    start : date-like
+        First day of a window.
+    history_end : date-like
+        Last day of a model's history.
+
+    Returns
+    -------
+    pandas.Timestamp
+        ``start`` moved by whole years (at least one) to the first date after ``history_end``.
+    """
+    first = values.parse_date(start, "window start")
+    end = values.parse_date(history_end, "model end")
+    years = 1
+    while first + pd.DateOffset(years=years) <= end:
+        years += 1
+    return pd.Timestamp(first + pd.DateOffset(years=years))
