@@ -32,6 +32,9 @@ Session keys (the only ones shared between pages):
 ``scenario_kinds``
     dict, scenario name -> how it was made: ``"seasonal_normal"`` (a plain seasonal normal from
     the path tools, the default base of a comparison), ``"built"``, ``"file"`` or ``"library"``.
+``library_message``
+    The Saved-scenarios page's last save, as text shown once after the page is drawn again
+    (:func:`library_saved`); the save also empties the note field for the next one.
 ``compare_choice``
     :class:`CompareChoice` fields as a dict (``hidden``: names taken off the chart, ``base``,
     ``tail_days``): the one set of choices the Compare page and the meeting view both follow.
@@ -89,6 +92,7 @@ MEETING = "meeting_view"
 ENSEMBLE = "ensemble"
 BACKTEST = "backtest"
 KINDS = "scenario_kinds"
+LIBRARY_MESSAGE = "library_message"
 COMPARE = "compare_choice"
 TYPED = "typed_temperatures"
 DAY_EDITS = "day_edits"
@@ -96,6 +100,14 @@ DAY_EDITS = "day_edits"
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
 MEETING_WIDGET = "meeting_choice"
+# Keys of the Build-a-scenario page's name, source and from-the-set widgets.
+NAME_WIDGET = "scn_name"
+SOURCE_WIDGET = "scn_source"
+FROM_SET_WIDGET = "scn_from_set"
+# Keys of the Saved-scenarios page's save form.
+LIB_PICK_WIDGET = "lib_pick"
+LIB_NAME_WIDGET = "lib_save_name"
+LIB_NOTE_WIDGET = "lib_note"
 # Keys of the Compare page's widgets bound to ``compare_choice``.
 SHOWN_WIDGET = "cmp_shown"
 BASE_WIDGET = "cmp_base"
@@ -590,3 +602,67 @@ def day_edits() -> tuple[dict[int, float | None], dict[int, Any]]:
         return {}, {}
     folded = _fold_table_edits(edits)
     return folded["temps_c"], folded["types"]
+
+
+# --------------------------------------------------------------------------------------------
+# Names: a scenario started from another gets its own; the library's "Save as" follows its picker
+# --------------------------------------------------------------------------------------------
+
+
+def unique_name(wanted: str) -> str:
+    """``wanted``, or ``wanted`` with the next free number (``"Mild (variant 2)"``) when the set
+    has it already."""
+    taken = set(scenarios())
+    if wanted not in taken:
+        return wanted
+    bracket = wanted.endswith(")")
+    stem = wanted[:-1] if bracket else wanted
+    number = 2
+    while (f"{stem} {number})" if bracket else f"{stem} {number}") in taken:
+        number += 1
+    return f"{stem} {number})" if bracket else f"{stem} {number}"
+
+
+def default_builder_name(name: str) -> None:
+    """Before the builder's name field is drawn the first time: start it at ``name``."""
+    st.session_state.setdefault(NAME_WIDGET, name)
+
+
+def builder_start_chosen() -> None:
+    """Callback of the builder's "Start from" and "Scenario to start from" widgets: starting from
+    a scenario in the set names the new one after it (a free name), so adding it never replaces
+    the scenario it came from."""
+    session = st.session_state
+    names = list(scenarios())
+    if session.get(SOURCE_WIDGET) != "set" or not names:
+        return
+    picked = session.get(FROM_SET_WIDGET)
+    if picked not in names:
+        picked = names[0]
+    session[NAME_WIDGET] = unique_name(f"{picked} (variant)")
+
+
+def library_pick_chosen() -> None:
+    """Callback of the library's scenario picker: "Save as" follows it."""
+    session = st.session_state
+    session[LIB_NAME_WIDGET] = session.get(LIB_PICK_WIDGET, "")
+
+
+def library_saved(message: str) -> None:
+    """After a save to the library: keep ``message`` to show once, and empty the note field
+    (:func:`prepare_library_form` does it before the field is drawn again)."""
+    st.session_state[LIBRARY_MESSAGE] = str(message)
+
+
+def prepare_library_form(names: list[str]) -> str | None:
+    """Before the save form is drawn: "Save as" holds the picker's name, the note is emptied
+    after a save; returns the last save's message once (None when there is none)."""
+    session = st.session_state
+    if names and session.get(LIB_PICK_WIDGET) not in names:
+        session[LIB_PICK_WIDGET] = names[0]
+        session[LIB_NAME_WIDGET] = names[0]
+    session.setdefault(LIB_NAME_WIDGET, session.get(LIB_PICK_WIDGET, ""))
+    message = session.pop(LIBRARY_MESSAGE, None)
+    if message is not None:
+        session[LIB_NOTE_WIDGET] = ""
+    return message

@@ -41,11 +41,17 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
     if fitted is None or not state.scenarios():
         st.info("Fit a model and add a scenario to the set first.")
     else:
+        last_save = state.prepare_library_form(list(state.scenarios()))
         a, b = st.columns(2)
-        pick = a.selectbox("Scenario", list(state.scenarios()), key="lib_pick")
-        save_name = b.text_input("Save as", value=pick, key="lib_save_name", max_chars=120)
+        pick = a.selectbox(
+            "Scenario",
+            list(state.scenarios()),
+            key=state.LIB_PICK_WIDGET,
+            on_change=state.library_pick_chosen,
+        )
+        save_name = b.text_input("Save as", key=state.LIB_NAME_WIDGET, max_chars=120)
         a, b = st.columns([3, 1])
-        note = a.text_input("Note", value="", key="lib_note", max_chars=500)
+        note = a.text_input("Note", key=state.LIB_NOTE_WIDGET, max_chars=500)
         author = b.text_input("Your name", value="", key="lib_author", max_chars=80)
         if st.button("Save", type="primary", key="lib_save"):
             scenario = state.scenarios()[pick]
@@ -58,7 +64,10 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
             except LoadcoreError as exc:
                 display.show_error(exc, "Not saved")
             else:
-                st.success(f"Saved '{md(saved.name)}' (version {saved.version}).")
+                state.library_saved(f"Saved '{md(saved.name)}' (version {saved.version}).")
+                st.rerun()
+        if last_save:
+            st.success(last_save)
 
 # --------------------------------------------------------------------------------------------
 # List and search

@@ -41,7 +41,8 @@ st.markdown(
 )
 
 left, right = st.columns([2, 1])
-name = left.text_input("Scenario name", value="Heat wave", key="scn_name", max_chars=80)
+state.default_builder_name("Heat wave")
+name = left.text_input("Scenario name", key=state.NAME_WIDGET, max_chars=80)
 horizon = right.number_input(
     f"Days (1 to {MAX_DAYS})",
     min_value=1,
@@ -60,7 +61,8 @@ source = st.radio(
         "file": "a scenario file (CSV or a saved definition)",
     }[s],
     horizontal=True,
-    key="scn_source",
+    key=state.SOURCE_WIDGET,
+    on_change=state.builder_start_chosen,
 )
 
 
@@ -137,6 +139,8 @@ def _from_tools(days: int) -> pd.Series | None:
             path = cold_snap(path, trough_c, int(cs_len), int(cs_ramp), int(cs_day) - 1)
         if shift_c:
             path = shift_path(path, shift_c)
+        if base_kind == "normal" and not (wave or snap or shift_c):
+            made["kind"] = "seasonal_normal"
     except LoadcoreError as exc:
         display.show_error(exc, "The path tools could not build this path")
         return None
@@ -148,7 +152,12 @@ def _from_set() -> Scenario | None:
     if not names:
         st.info("The set is empty. Build a scenario from the path tools first.")
         return None
-    chosen = st.selectbox("Scenario to start from", names, key="scn_from_set")
+    chosen = st.selectbox(
+        "Scenario to start from",
+        names,
+        key=state.FROM_SET_WIDGET,
+        on_change=state.builder_start_chosen,
+    )
     return state.scenarios()[chosen]
 
 
@@ -199,6 +208,7 @@ def _from_file() -> Scenario | None:
 # --------------------------------------------------------------------------------------------
 base_temps: pd.Series | None = None
 base_types: list[str] | None = None
+made = {"kind": "file" if source == "file" else "built"}  # how the scenario was made
 if source == "tools":
     if _days_ok(horizon):
         base_temps = _from_tools(int(horizon))
@@ -330,7 +340,8 @@ label = "Replace it in the set" if exists else "Add to the set"
 if exists:
     st.caption(f"A scenario named '{md(scenario.name)}' is already in the set.")
 if st.button(label, type="primary", key="scn_add"):
-    state.put_scenario(scenario)
+    edited = any(v is not None for v in edited_temps.values()) or bool(edited_types)
+    state.put_scenario(scenario, kind="built" if edited else made["kind"])
     st.success(
         f"'{md(scenario.name)}' is in the set ({len(state.scenarios())} scenario(s)). "
         "See them side by side on the Compare page."
