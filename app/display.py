@@ -115,7 +115,14 @@ def show_error(exc: LoadcoreError, what: str | None = None) -> None:
             "The file has errors, so nothing was changed. Each line below names the row, date or "
             "column and how to fix it; warnings and notes are listed too."
         )
-        st.dataframe(report.to_frame(), hide_index=True, width="stretch")
+        from app import tables
+
+        st.dataframe(
+            report.to_frame(),
+            hide_index=True,
+            width="stretch",
+            column_config=tables.report_columns(),
+        )
 
 
 def attempt(call: Callable[[], Any], what: str | None = None) -> tuple[bool, Any]:

@@ -6,7 +6,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import charts, display, state
+from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
 from loadcore.evaluate import backtest
 from loadcore.levels import coverage_column, level_label
@@ -73,15 +73,13 @@ cols[0].metric("MAPE over all days", f"{summary['mape']:.2f} %")
 cols[1].metric(
     "MASE (1 = same-weekday-last-week)",
     f"{summary['mase']:.3f}",
-    f"naive {summary['naive_mase']:.3f}",
-    delta_color="off",
+    help=f"Same weekday last week scores {summary['naive_mase']:.3f}; lower is better.",
 )
 for i, level in enumerate(levels):
     cols[2 + i].metric(
         f"Days inside the {level} % interval",
         f"{100 * summary[coverage_column(level)]:.0f} %",
-        f"aim {level} %",
-        delta_color="off",
+        help=f"A well-calibrated {level} % interval holds about {level} % of the days.",
     )
 
 by_h = result.by_horizon
@@ -107,7 +105,12 @@ right.plotly_chart(
     ),
     key="bt_coverage",
 )
-st.dataframe(by_h, hide_index=True, width="stretch")
+st.dataframe(
+    by_h,
+    hide_index=True,
+    width="stretch",
+    column_config=tables.backtest_horizon_columns(by_h.columns, fitted.demand_unit),
+)
 
 st.subheader("PIT histogram")
 counts, edges = result.pit_histogram(10)
@@ -135,6 +138,13 @@ with st.expander("Every backtest forecast"):
             f"temperature, {display.unit_symbol()}",
             display.to_display(table.pop("temperature_c").to_numpy(dtype=float)),
         )
-    st.dataframe(table, hide_index=True, width="stretch")
+    st.dataframe(
+        table,
+        hide_index=True,
+        width="stretch",
+        column_config=tables.backtest_forecast_columns(
+            table.columns, state.temp_unit(), fitted.demand_unit
+        ),
+    )
 st.caption(summary.get("note", ""))
 display.footer()

@@ -10,9 +10,8 @@ from __future__ import annotations
 
 import streamlit as st
 
-from app import display, state
+from app import display, state, tables
 from app.plain import md, quoted
-from loadcore import units
 from loadcore.errors import LoadcoreError
 from loadcore.export import (
     comparison_figure,
@@ -218,34 +217,8 @@ try:
 except LoadcoreError as exc:
     display.show_error(exc)
 else:
-    table = summary.rename(
-        columns={
-            "scenario": "scenario",
-            "days": "days",
-            "peak_date": "peak day",
-            "peak_mean": "peak, MW",
-            "sum_of_daily_means": "sum of daily means, MW-days",
-            "peak_vs_base": f"peak vs {base_name}, MW",
-            "peak_vs_base_pct": f"peak vs {base_name}, %",
-            "sum_vs_base": f"sum vs {base_name}, MW-days",
-            "sum_vs_base_pct": f"sum vs {base_name}, %",
-            "days_out_of_range": "days outside fitted range",
-        }
-    ).drop(columns=["sum_unit"])
-    st.dataframe(
-        table,
-        hide_index=True,
-        width="stretch",
-        column_config={
-            "peak day": st.column_config.DateColumn(format="ddd YYYY-MM-DD"),
-            "peak, MW": st.column_config.NumberColumn(format="%.0f"),
-            "sum of daily means, MW-days": st.column_config.NumberColumn(format="%.0f"),
-            f"peak vs {base_name}, MW": st.column_config.NumberColumn(format="%+.0f"),
-            f"peak vs {base_name}, %": st.column_config.NumberColumn(format="%+.1f"),
-            f"sum vs {base_name}, MW-days": st.column_config.NumberColumn(format="%+.0f"),
-            f"sum vs {base_name}, %": st.column_config.NumberColumn(format="%+.1f"),
-        },
-    )
+    shown_summary, summary_config = tables.summary_table(summary, base_name, fitted.demand_unit)
+    st.dataframe(shown_summary, hide_index=True, width="stretch", column_config=summary_config)
     note = summary.attrs.get("sum_note")
     if note:
         st.caption(note)
@@ -261,12 +234,7 @@ st.dataframe(
     daily,
     hide_index=True,
     width="stretch",
-    column_config={
-        "date": st.column_config.DateColumn(format="YYYY-MM-DD"),
-        units.temperature_column(unit): st.column_config.NumberColumn(
-            f"temperature, {display.unit_symbol()}", format="%.1f"
-        ),
-    },
+    column_config=tables.forecast_columns(daily.columns, unit, fitted.demand_unit),
     height=360,
 )
 left, middle, right = st.columns(3)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import streamlit as st
 
-from app import charts, display, state
+from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
 from loadcore.weather import ensemble_forecast
 
@@ -113,5 +113,11 @@ st.markdown(
 )
 
 st.subheader("Day by day")
-st.dataframe(result.daily, hide_index=True, width="stretch", height=320)
+st.dataframe(
+    result.daily,
+    hide_index=True,
+    width="stretch",
+    height=320,
+    column_config=tables.ensemble_columns(fitted.demand_unit),
+)
 display.footer()

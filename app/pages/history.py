@@ -9,7 +9,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import charts, display, state
+from app import charts, display, state, tables
 from app.plain import md
 from loadcore.calendar import day_types, overrides_from_text
 from loadcore.errors import LoadcoreError
@@ -147,7 +147,9 @@ for issue in report.warnings:
     st.markdown(f"- {md(issue.message)} {md(issue.fix)}".strip())
 if len(issues):
     with st.expander(f"Every note on the data ({len(issues)})", expanded=not report.ok):
-        st.dataframe(issues, hide_index=True, width="stretch")
+        st.dataframe(
+            issues, hide_index=True, width="stretch", column_config=tables.report_columns()
+        )
 
 frame = history.frame
 changed = frame[frame["temperature_filled"] | frame["demand"].isna()]
@@ -163,7 +165,15 @@ if len(changed):
                 "temperature_filled": "temperature filled in",
             }
         )
-        st.dataframe(shown, width="stretch")
+        st.dataframe(
+            shown,
+            width="stretch",
+            column_config={
+                "date": st.column_config.DateColumn("date", format=tables.DATE),
+                shown.columns[0]: st.column_config.NumberColumn(format="%.0f"),
+                shown.columns[1]: st.column_config.NumberColumn(format="%.1f"),
+            },
+        )
 
 # --------------------------------------------------------------------------------------------
 # Calendar: special periods (public holidays and the day-type scheme are set on the Model page)
@@ -239,6 +249,10 @@ st.plotly_chart(
     key="response_chart",
 )
 counts = pd.Series(types).value_counts().rename_axis("day type").rename("days")
-st.dataframe(counts.to_frame().T, width="stretch")
+st.dataframe(
+    counts.to_frame().T,
+    width="stretch",
+    column_config=tables.day_type_count_columns(counts.index),
+)
 
 display.footer()

@@ -7,10 +7,11 @@ import dataclasses
 import numpy as np
 import streamlit as st
 
-from app import cache, charts, display, state
+from app import cache, charts, display, state, tables
 from app.plain import md
 from loadcore.calendar import parse_holidays
 from loadcore.errors import LoadcoreError
+from loadcore.export import describe_orders
 from loadcore.files import check_upload_size
 from loadcore.model import FitSettings, TermSpec, load_model
 
@@ -162,7 +163,13 @@ if go:
             display.show_error(exc, "The model could not be fitted")
             st.caption("The model in use (if any) is unchanged.")
         else:
-            bar.progress(1.0, text=f"Done: {fitted.candidates_evaluated} candidates evaluated.")
+            screened = len(fitted.candidates)
+            exact = int(fitted.candidates["exact_fit"].sum())
+            bar.progress(
+                1.0,
+                text=f"Done: {fitted.candidates_evaluated} candidates evaluated ({screened} error "
+                f"models screened, {exact} of them also fitted exactly).",
+            )
             state.use_model(fitted)
 
 # --------------------------------------------------------------------------------------------
@@ -201,7 +208,13 @@ st.subheader("The fitted model")
 st.markdown(fitted.describe_errors())
 a, b, c = st.columns(3)
 a.metric("AICc", f"{fitted.aicc:,.1f}", help="Lower is better, for the same data and settings.")
-b.metric("Candidates evaluated", f"{fitted.candidates_evaluated}")
+screened = len(fitted.candidates)
+exact = int(fitted.candidates["exact_fit"].sum())
+b.metric(
+    "Error models screened",
+    f"{screened}",
+    help=f"{exact} of them were also fitted exactly; the table at the foot lists every one.",
+)
 c.metric("Estimation converged", "yes" if fitted.converged else "no")
 if not fitted.converged:
     st.warning("The estimation did not fully converge; try the thorough search or other settings.")
@@ -212,10 +225,7 @@ st.dataframe(
     fitted.coefficient_table(temp_unit=state.temp_unit()),
     hide_index=True,
     width="stretch",
-    column_config={
-        "estimate": st.column_config.NumberColumn(format="%.5f"),
-        "std_error": st.column_config.NumberColumn("standard error", format="%.5f"),
-    },
+    column_config=tables.coefficient_columns(fitted.settings.log),
 )
 
 st.subheader("Checks on what the model leaves unexplained")
@@ -257,8 +267,23 @@ st.plotly_chart(
     key="diag_hist",
 )
 
-with st.expander(f"Every candidate error model ({len(fitted.candidates)})"):
-    st.dataframe(fitted.candidates, hide_index=True, width="stretch")
+with st.expander(f"Every candidate error model ({screened} screened, {exact} fitted exactly)"):
+    candidates = fitted.candidates.copy()
+    candidates.insert(
+        0,
+        "error model",
+        [
+            describe_orders(
+                (r.ar, r.differencing, r.ma), (r.weekly_ar, r.weekly_differencing, r.weekly_ma)
+            )
+            for r in candidates.itertuples(index=False)
+        ],
+    )
+    for flag in ("converged", "stationary_invertible"):
+        candidates[flag] = [tables.yes_no(v) for v in candidates[flag]]
+    st.dataframe(
+        candidates, hide_index=True, width="stretch", column_config=tables.candidate_columns()
+    )
 
 st.download_button(
     "Download the fitted model (JSON)",

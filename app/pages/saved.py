@@ -5,7 +5,7 @@ from __future__ import annotations
 import pandas as pd
 import streamlit as st
 
-from app import cache, display, state
+from app import cache, display, state, tables
 from app.plain import md
 from loadcore.errors import LoadcoreError
 from loadcore.export import comparison_figure, comparison_summary, meeting_brief_html
@@ -83,11 +83,15 @@ if not listing:
     display.footer()
     st.stop()
 table = pd.DataFrame([item.to_dict() for item in listing])
-st.dataframe(
-    table[["name", "note", "author", "first_date", "last_date", "days", "version", "changed_utc"]],
-    hide_index=True,
-    width="stretch",
+table = table[
+    ["name", "note", "author", "first_date", "last_date", "days", "version", "changed_utc"]
+]
+table = table.assign(
+    first_date=pd.to_datetime(table["first_date"]),
+    last_date=pd.to_datetime(table["last_date"]),
+    changed_utc=pd.to_datetime(table["changed_utc"], utc=True),
 )
+st.dataframe(table, hide_index=True, width="stretch", column_config=tables.library_columns())
 
 # --------------------------------------------------------------------------------------------
 # One saved scenario: open, re-forecast, rename, duplicate, delete
@@ -180,7 +184,10 @@ if picked:
         base = st.selectbox("Base scenario", picked, key="lib_base")
         ok, summary = display.attempt(lambda: comparison_summary(stored, base))
         if ok:
-            st.dataframe(summary.drop(columns=["sum_unit"]), hide_index=True, width="stretch")
+            frame, config = tables.summary_table(
+                summary, base, entries[0].context.get("demand_unit", "MW")
+            )
+            st.dataframe(frame, hide_index=True, width="stretch", column_config=config)
         period = entries[0].context.get("history_period") or []
         period_text = f"History {period[0]} to {period[1]}" if len(period) == 2 else ""
         ok, html = display.attempt(
