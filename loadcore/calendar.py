@@ -28,7 +28,7 @@ import holidays
 import numpy as np
 import pandas as pd
 
-from loadcore.errors import InputError
+from loadcore.errors import InputError, clip, quote
 
 __all__ = [
     "BASE_TYPE",
@@ -122,7 +122,7 @@ def _to_date(value: Any, what: str) -> dt.date:
         stamp = pd.NaT
     if pd.isna(stamp):
         raise InputError(
-            f"The {what} {value!r} is not a date",
+            f"The {what} {quote(value)} is not a date",
             where="calendar override",
             fix="Write dates as YYYY-MM-DD, e.g. 2026-12-24",
         )
@@ -153,7 +153,7 @@ class Override:
         end = _to_date(self.end, "end date")
         if end < start:
             raise InputError(
-                f"The override {self.day_type!r} ends ({end}) before it starts ({start})",
+                f"The override {quote(self.day_type)} ends ({end}) before it starts ({start})",
                 where="calendar override",
                 fix="Put the earlier date first, e.g. 2026-12-24..2027-01-01",
             )
@@ -219,7 +219,7 @@ def _check_country(country: str, subdivision: str | None) -> None:
     supported = _supported()
     if country not in supported:
         raise InputError(
-            f"The holiday calendar has no country {country!r}",
+            f"The holiday calendar has no country {quote(country)}",
             where="holiday calendar",
             fix=_HOW_TO_FIND_CODES,
         )
@@ -228,7 +228,7 @@ def _check_country(country: str, subdivision: str | None) -> None:
         if subdivision not in known:
             listed = ", ".join(known) if known else "none"
             raise InputError(
-                f"The holiday calendar for {country} has no subdivision {subdivision!r}",
+                f"The holiday calendar for {country} has no subdivision {quote(subdivision)}",
                 where="holiday calendar",
                 fix=f"Valid subdivisions for {country}: {listed}; or leave the subdivision empty",
             )
@@ -267,7 +267,7 @@ class CalendarSpec:
             _check_country(country, subdivision)
         if self.scheme not in SCHEMES:
             raise InputError(
-                f"Unknown day-type scheme {self.scheme!r}",
+                f"Unknown day-type scheme {quote(self.scheme)}",
                 where="calendar settings",
                 fix="Choose 'simple' (working / non_working) or 'detailed'",
             )
@@ -447,7 +447,7 @@ def overrides_from_text(text: str) -> tuple[Override, ...]:
         line = raw.strip()
         if not line or line.startswith("#"):
             continue
-        where = f"override line {number}: {line!r}"
+        where = f"override line {number}: {quote(line)}"
         match = _LINE_RE.match(line)
         if match is None:
             raise InputError(
@@ -462,7 +462,7 @@ def overrides_from_text(text: str) -> tuple[Override, ...]:
             end_date = dt.date.fromisoformat(_pad_iso(end))
         except ValueError as exc:
             raise InputError(
-                f"The date in this override line does not exist ({exc})",
+                f"The date in this override line does not exist ({clip(exc)})",
                 where=where,
                 fix="Check the month and day, e.g. 2026-02-28",
             ) from exc

@@ -29,7 +29,7 @@ import pandas as pd
 
 from loadcore import levels as interval_levels
 from loadcore import texts
-from loadcore.errors import InputError, ScenarioError
+from loadcore.errors import InputError, ScenarioError, quote
 from loadcore.scores import (
     WEEK_LAG,
     crps_ensemble,
@@ -73,7 +73,7 @@ EX_POST_PATHS = 1000
 def _check_int(value, name: str, low: int, high: int) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
         raise InputError(
-            f"{name} must be a whole number, got {value!r}", where=name, fix=f"Use e.g. {low}"
+            f"{name} must be a whole number, got {quote(value)}", where=name, fix=f"Use e.g. {low}"
         )
     if not low <= value <= high:
         raise InputError(
@@ -88,7 +88,7 @@ def _normal_mode(mode: str) -> str:
     key = str(mode).strip().lower().replace("-", "_").replace(" ", "_")
     if key not in MODES:
         raise InputError(
-            f"unknown backtest mode {mode!r}",
+            f"unknown backtest mode {quote(mode)}",
             where="mode",
             fix="Use ex_post (actual temperatures) or ex_ante (weather ensembles)",
         )
@@ -343,7 +343,9 @@ def backtest(
     origins = _check_int(origins, "origins", 1, 500)
     mode = _normal_mode(mode)
     if refit not in REFITS:
-        raise InputError(f"unknown refit choice {refit!r}", where="refit", fix="Use none or params")
+        raise InputError(
+            f"unknown refit choice {quote(refit)}", where="refit", fix="Use none or params"
+        )
     level_probs = _level_probs(levels)
     if not level_probs:
         raise InputError("no interval level given", where="levels", fix="Give e.g. 80 and 95")

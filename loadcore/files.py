@@ -25,7 +25,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from loadcore.errors import InputError
+from loadcore.errors import InputError, quote
 
 #: Largest file read by default, MB (1 MB = 1,048,576 bytes). Nine years of hourly data is about
 #: 3 MB; the cap stops a mistaken file (a disk image, a video) before it fills memory (our choice).
@@ -94,7 +94,7 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_LIMIT_MB) -> None:
     """
     if isinstance(n_bytes, bool) or not isinstance(n_bytes, numbers.Integral) or n_bytes < 0:
         raise InputError(
-            f"The upload size must be a whole number of bytes, got {n_bytes!r}",
+            f"The upload size must be a whole number of bytes, got {quote(n_bytes)}",
             fix="Pass the file's length in bytes",
         )
     if (
@@ -104,7 +104,7 @@ def check_upload_size(n_bytes: int, limit_mb: float = DEFAULT_LIMIT_MB) -> None:
         or limit_mb <= 0
     ):
         raise InputError(
-            f"The upload limit must be a positive number of MB, got {limit_mb!r}",
+            f"The upload limit must be a positive number of MB, got {quote(limit_mb)}",
             fix=f"Use the default of {DEFAULT_LIMIT_MB} MB",
         )
     check_size(int(n_bytes), limit_mb=limit_mb, what="file", where="upload")

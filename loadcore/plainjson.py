@@ -18,7 +18,7 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 
-from loadcore.errors import InputError
+from loadcore.errors import InputError, clip
 
 #: Deepest nesting of arrays and objects accepted in a JSON file (our files need 6; our choice).
 MAX_DEPTH = 32
@@ -157,5 +157,5 @@ def loads(text: str | bytes, *, what: str = "JSON file", max_depth: int = MAX_DE
         ) from None
     except (ValueError, RecursionError) as exc:
         raise InputError(
-            f"The {what} is not valid JSON ({exc})", fix="Use a file written by loadcore"
+            f"The {what} is not valid JSON ({clip(exc)})", fix="Use a file written by loadcore"
         ) from None

@@ -26,7 +26,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore import texts
-from loadcore.errors import InputError, LoadcoreError, ScenarioError
+from loadcore.errors import InputError, LoadcoreError, ScenarioError, quote
 from loadcore.scenario import Scenario, fill_blank_day_types
 from loadcore.scores import sample_quantiles
 
@@ -67,7 +67,7 @@ def _timestamp(value, name: str) -> pd.Timestamp:
         stamp = pd.Timestamp(value)
     except (TypeError, ValueError) as exc:
         raise InputError(
-            f"{value!r} is not a date", where=name, fix="Give a date such as 2026-12-01"
+            f"{quote(value)} is not a date", where=name, fix="Give a date such as 2026-12-01"
         ) from exc
     if stamp is pd.NaT:
         raise InputError("the date is missing", where=name, fix="Give a date such as 2026-12-01")
@@ -88,7 +88,7 @@ def _same_day_in_year(date: pd.Timestamp, year: int) -> pd.Timestamp:
 def _check_int(value, name: str, low: int, high: int | None = None) -> int:
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)):
         raise InputError(
-            f"{name} must be a whole number, got {value!r}",
+            f"{name} must be a whole number, got {quote(value)}",
             where=name,
             fix=f"Use e.g. {max(low, 1)}",
         )

@@ -14,12 +14,9 @@ from pathlib import Path
 from typing import Any, TextIO
 
 from loadcore import files, levels, units
-from loadcore.errors import InputError, LoadcoreError
+from loadcore.errors import InputError, LoadcoreError, clip
 
 Handler = Callable[[argparse.Namespace], int]
-
-#: Longest piece of user text quoted back in a message, characters (our choice).
-QUOTE_CHARS = 80
 
 
 def say(text: str = "", stream: TextIO | None = None) -> None:
@@ -30,12 +27,6 @@ def say(text: str = "", stream: TextIO | None = None) -> None:
 def one_line(text: Any) -> str:
     """Text folded onto one line."""
     return " ".join(str(text).split())
-
-
-def clip(text: Any, limit: int = QUOTE_CHARS) -> str:
-    """User text cut to ``limit`` characters for quoting in a message."""
-    flat = one_line(text)
-    return flat if len(flat) <= limit else flat[: limit - 1] + "…"
 
 
 class ProgressBar:

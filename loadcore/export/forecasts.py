@@ -13,7 +13,7 @@ from typing import Any, Protocol
 import pandas as pd
 
 from loadcore import levels as interval_levels
-from loadcore.errors import InputError
+from loadcore.errors import InputError, quote
 
 
 class ForecastLike(Protocol):
@@ -43,7 +43,7 @@ def parse_demand_kind(demand_kind: Any) -> str:
     kind = str(demand_kind).strip().lower()
     if kind not in ("peak", "total"):
         raise InputError(
-            f"Unknown kind of daily demand {demand_kind!r}",
+            f"Unknown kind of daily demand {quote(demand_kind)}",
             fix='use "peak" (daily peak demand) or "total" (daily total)',
         )
     return kind
@@ -76,7 +76,7 @@ def scenario_names(forecasts: Sequence[Any], *, allow_empty: bool = False) -> li
     for name in names:
         if name in seen:
             raise InputError(
-                f"Two forecasts share the scenario name {name!r}",
+                f"Two forecasts share the scenario name {quote(name)}",
                 fix="Give every scenario its own name before comparing or exporting",
             )
         seen.add(name)
@@ -117,7 +117,7 @@ def forecast_frame(forecast: Any, position: int) -> pd.DataFrame:
     if missing:
         raise InputError(
             f"The forecast table lacks the column(s) {', '.join(missing)}",
-            where=f"scenario {name!r}" if name else f"forecast {position + 1}",
+            where=f"scenario {quote(name)}" if name else f"forecast {position + 1}",
             fix="Re-run the forecast with this version of loadcore",
         )
     frame = frame.copy()

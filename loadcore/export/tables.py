@@ -18,7 +18,7 @@ import pandas as pd
 
 from loadcore import levels as interval_levels
 from loadcore import texts, units
-from loadcore.errors import InputError
+from loadcore.errors import InputError, quote
 from loadcore.export.forecasts import (
     ForecastLike,
     as_list,
@@ -126,7 +126,7 @@ def comparison_summary(
     names = scenario_names(items)
     if base_name not in names:
         raise InputError(
-            f"The base scenario {base_name!r} is not among the forecasts",
+            f"The base scenario {quote(base_name)} is not among the forecasts",
             fix=f"Choose one of: {', '.join(repr(n) for n in names)}",
         )
     unit = str(demand_unit).strip() or "MW"
@@ -143,7 +143,7 @@ def comparison_summary(
         if means.notna().sum() == 0:
             raise InputError(
                 "The forecast has no demand values",
-                where=f"scenario {name!r}",
+                where=f"scenario {quote(name)}",
                 fix="Re-run the forecast; check the scenario temperatures are numbers",
             )
         peak_pos = int(np.nanargmax(means.to_numpy()))

@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore import units
-from loadcore.errors import HistoryError
+from loadcore.errors import HistoryError, clip
 from loadcore.history.daily import complete_daily, to_daily
 from loadcore.history.hours import within_day
 from loadcore.history.parsing import parse_dates, parse_numbers
@@ -220,7 +220,7 @@ def _analyse_safely(
         logger.exception("unexpected failure while checking a history")
         issue = Issue(
             "error",
-            f"The history could not be checked because of an unexpected problem ({exc})",
+            f"The history could not be checked because of an unexpected problem ({clip(exc)})",
             fix="Check that the file is a plain CSV table; if it is, report this to the "
             "loadcore maintainers with the file",
         )

@@ -15,6 +15,7 @@ from functools import lru_cache
 import numpy as np
 import pandas as pd
 
+from loadcore.errors import clip, quote
 from loadcore.history.reading import RawColumns
 from loadcore.history.report import Collector, iso_date
 from loadcore.history.settings import HistorySettings
@@ -159,7 +160,7 @@ def parse_dates(raw: RawColumns, settings: HistorySettings, issues: Collector) -
         except (ValueError, TypeError) as exc:
             issues.add(
                 "error",
-                f"The date format {settings.date_format!r} is not a valid pattern ({exc})",
+                f"The date format {quote(settings.date_format)} is not a valid pattern ({clip(exc)})",
                 column=column,
                 fix="Use a strftime pattern such as %Y-%m-%d or %d/%m/%Y %H:%M",
             )
@@ -193,7 +194,7 @@ def parse_dates(raw: RawColumns, settings: HistorySettings, issues: Collector) -
                     f"{_READABLE.get(chosen, chosen)} was chosen because it gives the most "
                     "regularly spaced dates",
                     column=column,
-                    fix=f"If that is wrong, set date_format, e.g. {scored[1][0]!r}",
+                    fix=f"If that is wrong, set date_format, e.g. {quote(scored[1][0])}",
                 )
             else:
                 chosen, parsed_filled = candidates[0]
@@ -240,7 +241,7 @@ def _report_bad_dates(
         issues.many(
             "error",
             lambda i: (
-                f"The date {text.iloc[bad_pos[i]]!r} cannot be read as {layout}",
+                f"The date {quote(text.iloc[bad_pos[i]])} cannot be read as {layout}",
                 {"row": int(raw.rows[bad_pos[i]])},
             ),
             len(bad_pos),
@@ -298,7 +299,7 @@ def parse_numbers(
         issues.many(
             "error",
             lambda i: (
-                f"The {label} {text.iloc[bad_pos[i]]!r} is not a number",
+                f"The {label} {quote(text.iloc[bad_pos[i]])} is not a number",
                 {"row": int(raw.rows[bad_pos[i]]), "date": iso_date(stamps.iloc[bad_pos[i]])},
             ),
             len(bad_pos),

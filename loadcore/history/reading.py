@@ -22,7 +22,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore import files
-from loadcore.errors import InputError
+from loadcore.errors import InputError, clip, quote, quote_all
 from loadcore.history.report import Collector
 from loadcore.history.settings import HistorySettings
 
@@ -98,7 +98,7 @@ def _read_text(source: Any, issues: Collector) -> str | None:
     if decoded.fallback:
         issues.add(
             "info",
-            f"The file {label!r} is not UTF-8; it was read as {decoded.encoding}",
+            f"The file {quote(label)} is not UTF-8; it was read as {decoded.encoding}",
             fix="Save the file as UTF-8 to avoid misread characters",
         )
     return decoded.text
@@ -139,7 +139,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
     except csv.Error as exc:
         issues.add(
             "error",
-            f"The file cannot be read as a table ({exc})",
+            f"The file cannot be read as a table ({clip(exc)})",
             fix="Save the history as a plain CSV file with one row per line",
         )
         return None
@@ -152,7 +152,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
             break
     if header_at is None:
         first = next((rec for rec in records if any(c.strip() for c in rec)), [])
-        found = ", ".join(repr(c.strip()) for c in first) or "none"
+        found = quote_all(c.strip() for c in first)
         missing = [
             w for w, n in zip(wanted, wanted_n, strict=True) if n not in [_norm(c) for c in first]
         ]
@@ -160,7 +160,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
         for name in missing:
             issues.add(
                 "error",
-                f"The column {name!r} is not in the file; the columns found are {found}",
+                f"The column {quote(name)} is not in the file; the columns found are {found}",
                 column=name,
                 fix=f"Set the {setting_of[name]} setting to the name of that column in the file",
             )
@@ -231,11 +231,11 @@ def _raw_from_frame(
     wanted = tuple(str(getattr(settings, n)) for n in settings.column_settings())
     missing = [w for w in wanted if _norm(w) not in lookup]
     if missing:
-        found = ", ".join(repr(str(c)) for c in frame.columns) or "none"
+        found = quote_all(str(c) for c in frame.columns)
         for name in missing:
             issues.add(
                 "error",
-                f"The column {name!r} is not in the table; the columns found are {found}",
+                f"The column {quote(name)} is not in the table; the columns found are {found}",
                 column=name,
                 fix="Rename the column or change the column-name setting to match",
             )

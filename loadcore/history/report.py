@@ -13,6 +13,8 @@ from typing import Any
 
 import pandas as pd
 
+from loadcore.errors import bounded
+
 # How many issues of one kind are listed one by one before the rest are summarised in a count.
 MAX_LISTED = 20
 
@@ -43,6 +45,12 @@ class Issue:
     date: str | None = None
     column: str | None = None
     fix: str = ""
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "message", bounded(str(self.message)))
+        object.__setattr__(self, "fix", bounded(str(self.fix)))
+        if self.column is not None:
+            object.__setattr__(self, "column", bounded(str(self.column)))
 
     def where(self) -> str:
         """The place as plain text, e.g. ``"row 12, date 2024-01-05, column demand"``."""

@@ -12,7 +12,7 @@ from typing import Literal
 import numpy as np
 
 from loadcore import units
-from loadcore.errors import HistoryError, InputError
+from loadcore.errors import HistoryError, InputError, quote
 
 TempKind = Literal["max", "mean"]
 SubdailyDemand = Literal["peak", "total"]
@@ -76,13 +76,13 @@ class HistorySettings:
         object.__setattr__(self, "temp_unit", unit)
         if self.temp_kind not in ("max", "mean"):
             raise HistoryError(
-                f"Unknown temperature kind {self.temp_kind!r}",
+                f"Unknown temperature kind {quote(self.temp_kind)}",
                 where="history settings: temp_kind",
                 fix="Use 'max' for daily maximum or 'mean' for daily mean temperature",
             )
         if self.subdaily_demand not in ("peak", "total"):
             raise HistoryError(
-                f"Unknown sub-daily aggregation {self.subdaily_demand!r}",
+                f"Unknown sub-daily aggregation {quote(self.subdaily_demand)}",
                 where="history settings: subdaily_demand",
                 fix="Use 'peak' (daily maximum) or 'total' (daily sum)",
             )
@@ -90,7 +90,7 @@ class HistorySettings:
             value = getattr(self, name)
             if not isinstance(value, (int, np.integer)) or value < 0:
                 raise HistoryError(
-                    f"{name} must be a whole number of days, 0 or more (got {value!r})",
+                    f"{name} must be a whole number of days, 0 or more (got {quote(value)})",
                     where=f"history settings: {name}",
                     fix="Give a number such as 3",
                 )

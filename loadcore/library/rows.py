@@ -17,7 +17,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore import plainjson
-from loadcore.errors import InputError, LoadcoreError
+from loadcore.errors import InputError, LoadcoreError, clip, quote
 from loadcore.library.entries import SavedScenario, ScenarioEntry, settings_to_dict
 
 MAX_NAME_CHARS = 120
@@ -102,7 +102,7 @@ def check_version(expected_version: Any) -> int:
         or expected_version < 1
     ):
         raise InputError(
-            f"The expected version must be a whole number from 1, got {expected_version!r}",
+            f"The expected version must be a whole number from 1, got {quote(expected_version)}",
             fix="Pass the version of the saved scenario you opened",
         )
     return int(expected_version)
@@ -124,7 +124,7 @@ def dumps(value: Any, where: str) -> str:
         return plainjson.dumps(value, nonfinite="error", where=where, ensure_ascii=False)
     except (TypeError, ValueError) as exc:
         raise InputError(
-            f"This cannot be stored as JSON: {exc}", where=where, fix="Report this as a bug"
+            f"This cannot be stored as JSON: {clip(exc)}", where=where, fix="Report this as a bug"
         ) from None
 
 
@@ -189,7 +189,7 @@ def definition_dates(definition: Mapping[str, Any], where: str) -> tuple[str, st
         dates = [pd.Timestamp(d["date"]) for d in days]
     except (KeyError, TypeError, ValueError) as exc:
         raise InputError(
-            f"The scenario definition has an unreadable date: {exc}",
+            f"The scenario definition has an unreadable date: {clip(exc)}",
             where=where,
             fix="Save a scenario built with loadcore.scenario (Scenario.to_dict())",
         ) from None
@@ -272,7 +272,7 @@ def saved_from_row(row: tuple, where: str) -> SavedScenario:
         )
     except (ValueError, TypeError, AttributeError, KeyError, LoadcoreError) as exc:
         raise InputError(
-            f"The saved scenario {name!r} is damaged and cannot be read: {exc}",
+            f"The saved scenario {quote(name)} is damaged and cannot be read: {clip(exc)}",
             where=where,
             fix="Delete it and save it again, or restore the library from a backup",
         ) from None

@@ -23,7 +23,7 @@ import unicodedata
 from pathlib import Path
 from typing import Any
 
-from loadcore.errors import InputError
+from loadcore.errors import InputError, clip, quote
 from loadcore.library import rows, schema
 from loadcore.library.entries import SavedScenario, ScenarioEntry, ScenarioListing
 
@@ -115,7 +115,7 @@ class ScenarioLibrary:
             if close
             else "Pick a name from the library's list"
         )
-        return InputError(f"No saved scenario is named {name!r}", where=self._where, fix=fix)
+        return InputError(f"No saved scenario is named {quote(name)}", where=self._where, fix=fix)
 
     def _saved(self, row: tuple) -> SavedScenario:
         return rows.saved_from_row(row, self._where)
@@ -162,7 +162,7 @@ class ScenarioLibrary:
             ]
         except (TypeError, ValueError) as exc:
             raise InputError(
-                f"The scenario library is damaged and its list cannot be read: {exc}",
+                f"The scenario library is damaged and its list cannot be read: {clip(exc)}",
                 where=self._where,
                 fix="Restore the library from a backup",
             ) from None
@@ -211,7 +211,7 @@ class ScenarioLibrary:
                 fix="Build one with loadcore.library.entry_from_forecast",
             )
         name = rows.clean_name(entry.name)
-        where = f"scenario {name!r}"
+        where = f"scenario {quote(name)}"
         note = rows.clean_note(entry.note)
         author = rows.clean_author(entry.author)
         content = rows.entry_content(entry, where)
@@ -220,7 +220,7 @@ class ScenarioLibrary:
         with self._write() as conn:
             if conn.execute("SELECT 1 FROM scenarios WHERE name = ?", (name,)).fetchone():
                 raise InputError(
-                    f"A saved scenario named {name!r} already exists",
+                    f"A saved scenario named {quote(name)} already exists",
                     where=self._where,
                     fix="Choose another name, or open the saved one and edit it",
                 )
@@ -252,7 +252,7 @@ class ScenarioLibrary:
         if row is None:
             return self._not_found(name, conn)
         return InputError(
-            f"The saved scenario {name!r} was changed by someone else since you opened it "
+            f"The saved scenario {quote(name)} was changed by someone else since you opened it "
             f"(you opened version {expected}, the library holds version {row[0]})",
             where=self._where,
             fix=STALE_FIX,
@@ -300,7 +300,7 @@ class ScenarioLibrary:
         if author is not None:
             sets["author"] = rows.clean_author(author)
         if entry is not None:
-            content = rows.entry_content(entry, f"scenario {key!r}")
+            content = rows.entry_content(entry, f"scenario {quote(key)}")
             sets.update(content)
         return self._edit(key, expected, sets)
 
@@ -347,7 +347,7 @@ class ScenarioLibrary:
             ).fetchone()
         if clash is not None and clash[0].casefold() != key.casefold():
             raise InputError(
-                f"A saved scenario named {clash[0]!r} already exists",
+                f"A saved scenario named {quote(clash[0])} already exists",
                 where=self._where,
                 fix="Choose another name",
             )
@@ -364,7 +364,7 @@ class ScenarioLibrary:
                 raise self._not_found(key, conn)
             if conn.execute("SELECT 1 FROM scenarios WHERE name = ?", (new_name,)).fetchone():
                 raise InputError(
-                    f"A saved scenario named {new_name!r} already exists",
+                    f"A saved scenario named {quote(new_name)} already exists",
                     where=self._where,
                     fix="Choose another name for the copy",
                 )

@@ -42,7 +42,7 @@ import numpy as np
 import pandas as pd
 
 from .. import files, plainjson
-from ..errors import InputError, LoadcoreError, ModelError
+from ..errors import InputError, LoadcoreError, ModelError, clip, quote
 from ..history import HistorySettings, history_from_frame
 from ..version import __version__
 from .orders import WEEKLY_PERIOD, DifferencingDecision, Orders
@@ -246,7 +246,7 @@ def _document(source: str | Path | bytes) -> tuple[dict, str]:
     version = data.get("format_version")
     if isinstance(version, bool) or version not in READABLE_VERSIONS:
         raise ModelError(
-            f"Unsupported model file version {version!r}",
+            f"Unsupported model file version {quote(version)}",
             where=where,
             fix="Refit the model with this version of loadcore",
         )
@@ -303,7 +303,7 @@ def _candidates(rows: Any) -> pd.DataFrame:
 
 def _flag(value: Any, what: str) -> bool:
     if not isinstance(value, bool):
-        raise TypeError(f"{what} must be true or false, got {value!r}")
+        raise TypeError(f"{what} must be true or false, got {quote(value)}")
     return value
 
 
@@ -372,7 +372,7 @@ def read_model(source: str | Path | bytes, build: Callable[..., Any]):
         ) from None
     except (KeyError, TypeError, ValueError, IndexError, AttributeError, OverflowError) as exc:
         raise ModelError(
-            f"The model file is incomplete or damaged ({exc.__class__.__name__}: {exc})",
+            f"The model file is incomplete or damaged ({exc.__class__.__name__}: {clip(exc)})",
             where=where,
             fix="Refit the model or use the original file",
         ) from None

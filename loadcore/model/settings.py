@@ -9,7 +9,7 @@ from dataclasses import asdict, dataclass, field
 import numpy as np
 
 from ..calendar import CalendarSpec
-from ..errors import InputError
+from ..errors import InputError, quote
 from .orders import SearchBounds
 from .terms import TermSpec
 
@@ -64,7 +64,7 @@ class FitSettings:
             value = getattr(self, name)
             if not isinstance(value, int | np.integer) or not 0 <= value <= 10:
                 raise InputError(
-                    f"{name} must be a whole number from 0 to 10, got {value!r}",
+                    f"{name} must be a whole number from 0 to 10, got {quote(value)}",
                     where="model settings",
                     fix="Lower the bound; the defaults are p, q up to 5, p+q up to 8, weekly up to 2",
                 )

@@ -19,7 +19,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..errors import ModelError
+from ..errors import ModelError, quote
 from .orders import SHOCK_VARIANCE, Orders, error_term
 
 #: Fields of :class:`EndState`, also the keys of its block in the model file.
@@ -145,7 +145,7 @@ def statsmodels_name(name: str, period: int) -> str:
         return "sigma2"
     term = error_term(name)
     if term is None:
-        raise ValueError(f"not an error parameter: {name!r}")
+        raise ValueError(f"not an error parameter: {quote(name)}")
     kind, k = term
     return {
         "ar": f"ar.L{k}",
@@ -168,9 +168,9 @@ def own_name(sm_name: str, period: int) -> str:
         if sm_name.startswith(prefix) and sm_name[len(prefix) :].isdigit():
             lag = int(sm_name[len(prefix) :])
             if lag % step or lag == 0:
-                raise ValueError(f"{sm_name!r} is not at a multiple of {step} days")
+                raise ValueError(f"{quote(sm_name)} is not at a multiple of {step} days")
             return f"error_{kind}_{lag // step}"
-    raise ValueError(f"unknown error parameter {sm_name!r}")
+    raise ValueError(f"unknown error parameter {quote(sm_name)}")
 
 
 @dataclass(frozen=True, eq=False)

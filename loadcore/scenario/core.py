@@ -17,7 +17,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..errors import ScenarioError
+from ..errors import ScenarioError, quote
 from . import definition as defn
 from . import values
 from .values import MAX_DAYS
@@ -61,7 +61,7 @@ class Scenario:
 
     def __post_init__(self) -> None:
         label = values.scenario_name(self.name)
-        where = f"scenario {label!r}"
+        where = f"scenario {quote(label)}"
         dates = values.daily_dates(self.dates, where)
         values.check_length(len(dates), where)
         temps = values.temperatures(self.temperature_c, dates, where)
@@ -93,7 +93,7 @@ class Scenario:
     def check_start(self, history_end: Any) -> None:
         """Raise ScenarioError unless the scenario starts the day after ``history_end`` (the
         last day of a model's history)."""
-        values.check_start(self.start, history_end, f"scenario {self.name!r}")
+        values.check_start(self.start, history_end, f"scenario {quote(self.name)}")
 
     def day_types_with(self, calendar_types: Sequence[str]) -> tuple[str, ...]:
         """Every day's type: the scenario's own, or ``calendar_types`` (one per date, for
@@ -102,7 +102,7 @@ class Scenario:
         This is the one place where "a blank day type means the calendar's" is decided.
         """
         return values.fill_blank_day_types(
-            self.day_types, calendar_types, where=f"scenario {self.name!r}"
+            self.day_types, calendar_types, where=f"scenario {quote(self.name)}"
         )
 
     def fill_day_types(self, calendar_types: Sequence[str]) -> Scenario:
@@ -239,7 +239,7 @@ def make_scenario(
         many days, a temperature that is not a number, or one outside -60..60 °C.
     """
     label = values.scenario_name(name)
-    where = f"scenario {label!r}"
+    where = f"scenario {quote(label)}"
     if not isinstance(path, pd.Series):
         raise ScenarioError(
             f"The temperature path must be a pandas Series, got {type(path).__name__}",

@@ -14,7 +14,7 @@ import numpy as np
 import pandas as pd
 
 from .. import files, units
-from ..errors import ScenarioError
+from ..errors import ScenarioError, quote, quote_all
 from .core import Scenario, make_scenario
 from .values import MAX_DAYS, iso, not_a_number, number, parse_date
 
@@ -82,11 +82,11 @@ def read_scenario_csv(
         if key in columns:
             return columns[key]
         if required:
-            found = ", ".join(str(c) for c in frame.columns) or "none"
+            found = quote_all(str(c) for c in frame.columns)
             raise ScenarioError(
-                f"The scenario file has no {col!r} column (columns found: {found})",
+                f"The scenario file has no {quote(col)} column (columns found: {found})",
                 where=where_file,
-                fix=f"Name the column {col!r} or say which column to use",
+                fix=f"Name the column {quote(col)} or say which column to use",
             )
         return None
 

@@ -13,7 +13,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from .. import plainjson
-from ..errors import InputError, ScenarioError
+from ..errors import InputError, ScenarioError, quote
 from .values import iso, parse_date
 
 #: Identifies a scenario definition file written by :meth:`Scenario.to_dict`.
@@ -55,7 +55,7 @@ def pieces(data: Any) -> tuple[str, list, list, list]:
     version = data.get("version")
     if version != DEFINITION_VERSION:
         raise ScenarioError(
-            f"Scenario definition version {version!r} is not supported",
+            f"Scenario definition version {quote(version)} is not supported",
             where=_WHERE,
             fix=f"Save the scenario again with this loadcore (version {DEFINITION_VERSION})",
         )

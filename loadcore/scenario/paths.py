@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError, ScenarioError
+from ..errors import InputError, ScenarioError, quote
 from .values import cap, check_days, check_temperature, iso, parse_date
 
 log = logging.getLogger(__name__)
@@ -105,7 +105,7 @@ def _event_weights(n: int, pos: int, length_days: int, ramp_days: int, what: str
         ramp = -1
     if ramp != ramp_days or ramp < 0:
         raise ScenarioError(
-            f"{cap(what)} ramp must be a whole number of days of at least 0, got {ramp_days!r}",
+            f"{cap(what)} ramp must be a whole number of days of at least 0, got {quote(ramp_days)}",
             where=f"{what} ramp",
             fix="Give 0 for a sudden change, or the number of days to build up and die away",
         )

@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 
 from ..calendar import normalise_type_name
-from ..errors import InputError, ScenarioError
+from ..errors import InputError, ScenarioError, quote
 
 #: Plausibility limits for a daily maximum air temperature, °C: beyond these a value is almost
 #: surely a unit or typing mistake (common practice, no source; the recorded extremes lie inside).
@@ -61,7 +61,7 @@ def number(value: Any) -> float | None:
 
 def not_a_number(value: Any, where: str) -> ScenarioError:
     """The one message for a temperature that is not a number."""
-    shown = "blank" if is_blank(value) else repr(value)
+    shown = "blank" if is_blank(value) else quote(value)
     return ScenarioError(
         f"The temperature is {shown}: missing or not a number",
         where=where,
@@ -77,7 +77,7 @@ def parse_date(value: Any, where: str) -> pd.Timestamp:
         ts = pd.NaT
     if ts is pd.NaT or pd.isna(ts):
         raise ScenarioError(
-            f"{value!r} is not a date", where=where, fix="Write dates as YYYY-MM-DD"
+            f"{quote(value)} is not a date", where=where, fix="Write dates as YYYY-MM-DD"
         )
     if ts.tz is not None:
         ts = ts.tz_localize(None)
@@ -100,7 +100,7 @@ def check_days(days: Any, what: str = "days") -> int:
         n = -1
     if n != days or n < 1:
         raise ScenarioError(
-            f"{cap(what)} must be a whole number of at least 1, got {days!r}",
+            f"{cap(what)} must be a whole number of at least 1, got {quote(days)}",
             where=what,
             fix="Give a positive whole number of days",
         )
@@ -128,7 +128,7 @@ def check_temperature(value: Any, what: str) -> float:
         t = math.nan
     if not math.isfinite(t):
         raise ScenarioError(
-            f"{cap(what)} must be a number, got {value!r}",
+            f"{cap(what)} must be a number, got {quote(value)}",
             where=what,
             fix="Give a temperature in °C",
         )
@@ -231,7 +231,7 @@ def day_types(values: Any, dates: pd.DatetimeIndex, where: str) -> tuple[str, ..
             out.append(normalise_type_name(str(v)))
         except InputError:
             raise ScenarioError(
-                f"The day type {v!r} has no letters or digits",
+                f"The day type {quote(v)} has no letters or digits",
                 where=f"{where}, day types, date {iso(day)}",
                 fix="Leave it blank to use the calendar, or give a name such as holiday",
             ) from None
