@@ -9,7 +9,13 @@ import pandas as pd
 import pytest
 
 from loadcore.errors import InputError
-from loadcore.export import FORMULA_PREFIXES, safe_cell, safe_frame, to_csv_bytes
+from loadcore.export import (
+    FORMULA_PREFIXES,
+    safe_cell,
+    safe_frame,
+    starts_formula,
+    to_csv_bytes,
+)
 
 
 @pytest.mark.parametrize("prefix", ["=", "+", "-", "@", "\t", "\r"])
@@ -17,6 +23,35 @@ def test_safe_cell_neutralises_each_formula_prefix(prefix):
     """Prefix list from the OWASP "CSV Injection" page (owasp.org/www-community/attacks/CSV_Injection)."""
     text = prefix + 'HYPERLINK("x")'
     assert safe_cell(text) == "'" + text
+
+
+@pytest.mark.parametrize(
+    "text",
+    [
+        "\uff1dHYPERLINK(\"x\")",  # full-width equals sign
+        "\uff0b1+1",  # full-width plus
+        "\uff0d2+3",  # full-width minus (hyphen-minus)
+        "\uff20SUM(A1)",  # full-width commercial at
+        "\u200b=1+1",  # zero-width space first
+        "\ufeff=1+1",  # byte-order mark first
+        "\u200d\u2060+1",  # zero-width joiner and word joiner
+        "\u00a0@x",  # no-break space
+        "\u3000\uff1d1",  # ideographic space, then full-width equals
+        " =1+1",
+        "\n-1+2",
+        "\ufe62cmd",  # small plus sign, NFKC '+'
+    ],
+)
+def test_safe_cell_neutralises_disguised_formulas(text):
+    """Issue 11, item 5: NFKC-normalise and drop invisible leading characters before the check
+    (the OWASP "CSV Injection" prefixes, seen through Unicode compatibility folding: UAX #15)."""
+    assert safe_cell(text) == "'" + text
+    assert starts_formula(text)
+
+
+def test_safe_cell_keeps_harmless_unicode():
+    for text in ("\u2212 5 (a minus sign)", "caf\u00e9", "\u200bplain", "\uff41bc", "a\uff1db"):
+        assert safe_cell(text) == text
 
 
 def test_safe_cell_leaves_plain_text_and_numbers():

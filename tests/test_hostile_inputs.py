@@ -249,6 +249,10 @@ HOSTILE_FRAGMENTS = [
     "e\u0301",  # decomposed accent
     "😀👩‍🔬",
     "\x00nul",
+    "\uff1dcmd|' /C calc'!A0",  # full-width '=' (item 5)
+    "\u200b=1+1",  # zero-width space before '=' (item 5)
+    "\ufeff+SUM(1,2)",  # byte-order mark before '+' (item 5)
+    "\u3000\uff20import",  # ideographic space, full-width '@' (item 5)
 ]
 hostile_text = st.one_of(
     st.text(max_size=60),
@@ -331,12 +335,24 @@ scalars = st.one_of(
 )
 
 
+def _spreadsheet_formula(text: str) -> bool:
+    """The formula rule as the issue states it: the OWASP prefixes, checked on the text as
+    written and after NFKC with invisible leading characters (format, space, control) removed."""
+    if text.startswith(FORMULA_PREFIXES):
+        return True
+    folded = unicodedata.normalize("NFKC", text)
+    kept = folded
+    while kept and unicodedata.category(kept[0]) in ("Cf", "Zs", "Zl", "Zp", "Cc"):
+        kept = kept[1:]
+    return kept[:1] in ("=", "+", "-", "@")
+
+
 @FAST
 @given(value=scalars)
 def test_safe_cell_property(value):
     """Rule from the OWASP "CSV Injection" page: quote text cells that start a formula."""
     out = safe_cell(value)
-    if isinstance(value, str) and value.startswith(FORMULA_PREFIXES):
+    if isinstance(value, str) and _spreadsheet_formula(value):
         assert out == "'" + value
     elif isinstance(value, float) and math.isnan(value):
         assert math.isnan(out)
@@ -359,6 +375,7 @@ def test_csv_export_never_starts_a_cell_with_a_formula(cells, numbers):
     for row in rows[1:]:
         text_cell = row[0]
         assert not text_cell.startswith(FORMULA_PREFIXES)
+        assert not _spreadsheet_formula(text_cell)
     # numbers come back as numbers (negative ones too), text is kept behind its quote
     back = [row[1] for row in rows[1:]]
     for original, written in zip(numbers[:n], back, strict=True):

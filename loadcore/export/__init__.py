@@ -17,7 +17,13 @@ The upload-size check lives with the file policy (:func:`loadcore.files.check_up
 from loadcore.export.brief import meeting_brief_html
 from loadcore.export.figures import comparison_figure, figure_html, style_figure
 from loadcore.export.forecasts import ForecastLike
-from loadcore.export.safe_csv import FORMULA_PREFIXES, safe_cell, safe_frame, to_csv_bytes
+from loadcore.export.safe_csv import (
+    FORMULA_PREFIXES,
+    safe_cell,
+    safe_frame,
+    starts_formula,
+    to_csv_bytes,
+)
 from loadcore.export.tables import (
     comparison_summary,
     describe_orders,
@@ -38,6 +44,7 @@ __all__ = [
     "out_of_range_days",
     "safe_cell",
     "safe_frame",
+    "starts_formula",
     "style_figure",
     "summarise_model",
     "to_csv_bytes",

@@ -8,6 +8,7 @@ endings, ISO 8601 dates and a fixed number of significant digits.
 from __future__ import annotations
 
 import io
+import unicodedata
 from datetime import date, datetime
 from typing import Any
 
@@ -19,12 +20,34 @@ from loadcore.errors import InputError
 # Leading characters that make a spreadsheet treat a cell as a formula (OWASP, "CSV Injection").
 FORMULA_PREFIXES = ("=", "+", "-", "@", "\t", "\r")
 
+#: Unicode categories skipped before the formula check: invisible format characters (zero-width
+#: space, byte-order mark), spaces, controls and line separators (our choice: a spreadsheet may
+#: drop them and then see the formula).
+INVISIBLE_CATEGORIES = frozenset({"Cf", "Zs", "Zl", "Zp", "Cc"})
+
+
+def starts_formula(text: str) -> bool:
+    """True when a spreadsheet could run ``text`` as a formula.
+
+    The text is checked as written and after NFKC normalisation (full-width ``＝＋－＠`` become
+    ``= + - @``) with invisible leading characters removed (zero-width characters, byte-order
+    marks, spaces, controls).
+    """
+    if text.startswith(FORMULA_PREFIXES):
+        return True
+    folded = unicodedata.normalize("NFKC", text)
+    start = 0
+    while start < len(folded) and unicodedata.category(folded[start]) in INVISIBLE_CATEGORIES:
+        start += 1
+    return folded[start:].startswith(FORMULA_PREFIXES[:4])
+
 
 def safe_cell(value: Any) -> Any:
     """Neutralise a text cell that a spreadsheet would run as a formula.
 
     Text starting with ``=``, ``+``, ``-``, ``@``, a tab or a carriage return gets a single quote in
-    front, as the OWASP guidance on CSV injection recommends. Numbers (int, float, bool and numpy
+    front, as the OWASP guidance on CSV injection recommends; so does text that starts so once
+    normalised (:func:`starts_formula`: full-width signs, invisible leading characters). Numbers (int, float, bool and numpy
     numbers, negative ones included), missing values, dates and every other non-text value are
     returned unchanged.
 
@@ -38,7 +61,7 @@ def safe_cell(value: Any) -> Any:
     Any
         The cell, with a leading quote added when it is risky text.
     """
-    if isinstance(value, (str, np.str_)) and str(value).startswith(FORMULA_PREFIXES):
+    if isinstance(value, (str, np.str_)) and starts_formula(str(value)):
         return "'" + str(value)
     return value
 
