@@ -244,18 +244,19 @@ def refuse_overwriting_inputs(
             )
 
 
-def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str = "file") -> Path:
-    """Write ``data`` to ``path`` all at once: a temporary file in the same folder, flushed to
-    disk, then renamed over the target. On failure the old file (if any) is left as it was and
-    no temporary file stays behind.
+def output_target(path: str | os.PathLike[str], *, what: str = "file") -> Path:
+    """The file an output at ``path`` goes to, checked before anything is written.
+
+    A symbolic link is followed, so the file it points to is replaced and the link is kept.
 
     Raises
     ------
     InputError
-        When the folder does not exist or the file cannot be written, naming the file.
+        When the folder does not exist, or the path is a folder, a device, a pipe or a socket
+        (writing there would replace it or never finish).
     """
-    target = Path(path)
-    payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+    given = Path(path)
+    target = Path(os.path.realpath(given)) if given.is_symlink() else given
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
         raise InputError(
@@ -263,10 +264,50 @@ def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str =
             where=str(folder),
             fix="Create the folder first or write somewhere else",
         )
-    if target.is_dir():
+    try:
+        info = target.stat()
+    except FileNotFoundError:
+        return target
+    except OSError as exc:
         raise InputError(
-            f"The path for the {what} is a folder", where=str(target), fix="Give a file name"
+            f"The path for the {what} cannot be used ({exc.strerror or exc})",
+            where=str(given),
+            fix="Check the path and that you may write there",
+        ) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise InputError(
+            f"The path for the {what} is a folder", where=str(given), fix="Give a file name"
         )
+    if not stat.S_ISREG(info.st_mode):
+        raise InputError(
+            f"The path for the {what} is not a regular file (it is a device, a pipe or a socket)",
+            where=str(given),
+            fix="Give the name of an ordinary file",
+        )
+    return target
+
+
+def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str = "file") -> Path:
+    """Write ``data`` to ``path`` all at once: a temporary file in the same folder, flushed to
+    disk, then renamed over the target (and the folder flushed). On failure the old file (if
+    any) is left as it was and no temporary file stays behind.
+
+    ``path`` is checked first by :func:`output_target` (a link is followed; folders, devices,
+    pipes and sockets are refused).
+
+    Returns
+    -------
+    Path
+        The file written.
+
+    Raises
+    ------
+    InputError
+        When the path cannot be used or the file cannot be written, naming the file.
+    """
+    target = output_target(path, what=what)
+    payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
+    folder = target.parent if str(target.parent) else Path(".")
     tmp_name = None
     try:
         fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
@@ -283,11 +324,12 @@ def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str =
             os.chmod(tmp_name, 0o666 & ~_umask())
         os.replace(tmp_name, target)
         tmp_name = None
+        _sync_folder(folder)
     except OSError as exc:
         raise InputError(
             f"The {what} could not be written ({exc.strerror or exc}); any earlier file there is "
             "unchanged",
-            where=str(target),
+            where=str(path),
             fix="Free some disk space or choose a folder you can write to",
         ) from None
     finally:
@@ -297,6 +339,20 @@ def write_atomic(path: str | os.PathLike[str], data: bytes | str, *, what: str =
             except OSError:
                 pass
     return target
+
+
+def _sync_folder(folder: Path) -> None:
+    """Flush a folder's entry list to disk after a rename (where the system allows it)."""
+    try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:
+        return
+    try:
+        os.fsync(fd)
+    except OSError:
+        pass
+    finally:
+        os.close(fd)
 
 
 def _umask() -> int:

@@ -28,7 +28,7 @@ def test_safe_cell_neutralises_each_formula_prefix(prefix):
 @pytest.mark.parametrize(
     "text",
     [
-        "\uff1dHYPERLINK(\"x\")",  # full-width equals sign
+        '\uff1dHYPERLINK("x")',  # full-width equals sign
         "\uff0b1+1",  # full-width plus
         "\uff0d2+3",  # full-width minus (hyphen-minus)
         "\uff20SUM(A1)",  # full-width commercial at

@@ -217,17 +217,10 @@ def require_file(path: str, what: str) -> None:
 
 def require_output(out: str, *inputs: Any, option: str = "--out") -> None:
     """Fail before long work when the output cannot be written or would overwrite an input."""
-    target = Path(out)
-    if target.is_dir():
-        raise InputError(
-            "The output path is a folder", where=f"{option} {out}", fix="Give a file name inside it"
-        )
-    if not (target.parent if str(target.parent) else Path(".")).is_dir():
-        raise InputError(
-            "The folder for the output file does not exist",
-            where=f"{option} {out}",
-            fix="Create the folder first or write somewhere else",
-        )
+    try:
+        files.output_target(out, what="output file")
+    except InputError as exc:
+        raise InputError(exc.problem, where=f"{option} {out}", fix=exc.fix) from None
     files.refuse_overwriting_inputs(out, *inputs, option=option)
 
 

@@ -6,7 +6,7 @@ import argparse
 from pathlib import Path
 from typing import Any
 
-from loadcore import plainjson, texts
+from loadcore import files, plainjson, texts
 from loadcore.cli.common import (
     require_file,
     require_output,
@@ -17,10 +17,16 @@ from loadcore.cli.common import (
 from loadcore.errors import InputError
 
 
+def _library_path(args: argparse.Namespace) -> Path:
+    from loadcore.library import default_library_path
+
+    return Path(args.db).expanduser() if args.db is not None else default_library_path()
+
+
 def _library(args: argparse.Namespace):
     from loadcore.library import ScenarioLibrary
 
-    return ScenarioLibrary(args.db)
+    return ScenarioLibrary(_library_path(args))
 
 
 def run_save(args: argparse.Namespace) -> int:
@@ -29,6 +35,10 @@ def run_save(args: argparse.Namespace) -> int:
     from loadcore.scenario import read_scenario_csv
 
     require_file(args.scenario_csv, "scenario file")
+    require_file(args.model, "model file")
+    files.refuse_overwriting_inputs(
+        _library_path(args), args.scenario_csv, args.model, option="--db"
+    )
     library = _library(args)
     if args.name in library:  # refuse before the forecast work; save() checks again
         raise InputError(
@@ -80,8 +90,8 @@ def run_export(args: argparse.Namespace) -> int:
             where="--out",
             fix="End the file name with .csv or .html",
         )
+    require_output(args.out, _library_path(args))
     library = _library(args)
-    require_output(args.out, library.path)
     saved = [library.get(name) for name in args.names]
     forecasts = [s.to_forecast() for s in saved]
     if suffix == ".csv":

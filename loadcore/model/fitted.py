@@ -26,8 +26,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from .. import files, texts, units
 from .. import levels as interval_levels
-from .. import texts, units
 from ..calendar import CalendarSpec, day_types
 from ..errors import ModelError, ScenarioError
 from ..history import History
@@ -464,9 +464,15 @@ class FittedModel:
         return json.dumps(self.to_dict(), allow_nan=False)
 
     def save(self, path: str | Path) -> Path:
-        path = Path(path)
-        path.write_text(self.to_json(), encoding="utf-8")
-        return path
+        """Write the model file all at once (:func:`loadcore.files.write_atomic`): a full disk
+        or a crash leaves any earlier file at ``path`` as it was.
+
+        Raises
+        ------
+        InputError
+            When the file cannot be written, naming it.
+        """
+        return files.write_atomic(path, self.to_json(), what="model file")
 
 
 def load_model(source: str | Path | bytes) -> FittedModel:
