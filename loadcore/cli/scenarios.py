@@ -35,7 +35,6 @@ def run_save(args: argparse.Namespace) -> int:
     from loadcore.scenario import read_scenario_csv
 
     require_file(args.scenario_csv, "scenario file")
-    require_file(args.model, "model file")
     files.refuse_overwriting_inputs(
         _library_path(args), args.scenario_csv, args.model, option="--db"
     )
