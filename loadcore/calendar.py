@@ -87,6 +87,16 @@ def day_type_label(day_type: str) -> str:
     return _TYPE_LABELS.get(day_type, str(day_type).replace("_", " ") + " day")
 
 
+#: Longest day-type name, characters (our choice: it becomes a column name and a chart label).
+MAX_TYPE_NAME_CHARS = 60
+
+#: Most calendar overrides one calendar holds (our choice: a hard limit on what a file may ask).
+MAX_OVERRIDES = 1000
+
+#: Longest override label, characters (our choice).
+MAX_LABEL_CHARS = 120
+
+
 def normalise_type_name(name: str) -> str:
     """Return ``name`` in lower_snake_case (``"Year End"`` -> ``"year_end"``).
 
@@ -101,6 +111,13 @@ def normalise_type_name(name: str) -> str:
     folded = unicodedata.normalize("NFKC", str(name))
     ascii_text = unicodedata.normalize("NFKD", folded).encode("ascii", "ignore").decode("ascii")
     text = re.sub(r"[^0-9a-zA-Z]+", "_", ascii_text.strip()).strip("_").lower()
+    if len(text) > MAX_TYPE_NAME_CHARS:
+        raise InputError(
+            f"The day-type name {quote(str(name), 40)} has {len(text)} characters, more than "
+            f"{MAX_TYPE_NAME_CHARS}",
+            where="calendar override",
+            fix="Give the day type a short name such as year_end or plant_shutdown",
+        )
     if not text:
         shown = " ".join(str(name).split())[:40]
         raise InputError(
@@ -160,7 +177,14 @@ class Override:
         object.__setattr__(self, "start", start)
         object.__setattr__(self, "end", end)
         object.__setattr__(self, "day_type", normalise_type_name(self.day_type))
-        object.__setattr__(self, "label", str(self.label).strip())
+        label = str(self.label).strip()
+        if len(label) > MAX_LABEL_CHARS:
+            raise InputError(
+                f"The override label has {len(label)} characters, more than {MAX_LABEL_CHARS}",
+                where="calendar override",
+                fix="Shorten the label",
+            )
+        object.__setattr__(self, "label", label)
 
     def to_dict(self) -> dict[str, str]:
         """Plain dict for JSON (ISO dates)."""
@@ -174,7 +198,14 @@ class Override:
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> Override:
         """Inverse of :meth:`to_dict`."""
-        return cls(data["start"], data["end"], data["day_type"], data.get("label", ""))
+        label = data.get("label", "") if isinstance(data, dict) else None
+        if not isinstance(label, str) or not isinstance(data.get("day_type"), str):
+            raise InputError(
+                "A calendar override needs a start, an end, a day type and a label as text",
+                where="calendar override",
+                fix="Use overrides written by loadcore",
+            )
+        return cls(data["start"], data["end"], data["day_type"], label)
 
 
 #: Words that choose no public-holiday calendar at all (weekends and overrides only).
@@ -271,6 +302,12 @@ class CalendarSpec:
                 where="calendar settings",
                 fix="Choose 'simple' (working / non_working) or 'detailed'",
             )
+        if isinstance(self.overrides, str | bytes) or len(self.overrides) > MAX_OVERRIDES:
+            raise InputError(
+                f"The calendar overrides must be a list of at most {MAX_OVERRIDES} date ranges",
+                where="calendar settings",
+                fix="Merge neighbouring overrides into ranges",
+            )
         overrides = tuple(
             o if isinstance(o, Override) else Override.from_dict(o) for o in self.overrides
         )
@@ -295,6 +332,16 @@ class CalendarSpec:
     @classmethod
     def from_dict(cls, data: dict[str, Any]) -> CalendarSpec:
         """Inverse of :meth:`to_dict`."""
+        if (
+            not isinstance(data, dict)
+            or not isinstance(data.get("overrides", ()), list | tuple)
+            or any(not isinstance(data.get(k) or "", str) for k in ("country", "subdivision"))
+        ):
+            raise InputError(
+                "The calendar settings are not ones loadcore writes",
+                where="calendar settings",
+                fix="Use settings written by loadcore",
+            )
         return cls(
             country=data.get("country", "US"),
             subdivision=data.get("subdivision"),

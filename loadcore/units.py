@@ -30,6 +30,12 @@ F_PER_C = 1.8
 #: °F at 0 °C (exact definition of the Fahrenheit scale).
 F_AT_ZERO_C = 32.0
 
+#: Plausibility limits for a daily temperature at a populated place, °C: beyond these a value is
+#: almost surely a unit or typing mistake (common practice, no source; the recorded extremes lie
+#: inside). The one copy: histories, scenarios and model settings all check against it.
+PLAUSIBLE_MIN_C = -60.0
+PLAUSIBLE_MAX_C = 60.0
+
 
 def parse_unit(text: Any, *, where: str = "temperature unit") -> Unit:
     """``"C"`` or ``"F"`` from a user's text (``"c"``, ``"°F"``, ``" F "``, ``"Celsius"``...).

@@ -33,7 +33,7 @@ def simulated_frame(days: int = 400, start: str = "2029-01-01", seed: int = 3) -
     demand = log 1500 + 0.004 (T - 18)^2 + weekday effects + AR(1) errors (phi 0.6, sd 2 %)."""
     rng = np.random.default_rng(seed)
     dates = pd.date_range(start, periods=days, freq="D")
-    doy = dates.dayofyear.to_numpy()
+    doy = dates.day_of_year.to_numpy()
     temp = 15 + 11 * np.sin(2 * np.pi * (doy - 110) / 365.25) + rng.normal(0, 2.5, days)
     weekday = np.array([0.0, 0.01, 0.01, 0.01, 0.0, -0.08, -0.12])[dates.day_of_week]
     noise = np.zeros(days)

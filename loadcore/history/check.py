@@ -28,10 +28,9 @@ from loadcore.history.table import History
 
 logger = logging.getLogger(__name__)
 
-# Physical plausibility bounds for a daily temperature at a populated place, °C
-# (common practice, no source; the recorded extremes lie inside them).
-TEMP_MIN_C = -60.0
-TEMP_MAX_C = 60.0
+# Physical plausibility bounds for a daily temperature, °C (loadcore.units owns them).
+TEMP_MIN_C = units.PLAUSIBLE_MIN_C
+TEMP_MAX_C = units.PLAUSIBLE_MAX_C
 
 
 def _to_celsius(temp: np.ndarray, settings: HistorySettings) -> np.ndarray:

@@ -41,10 +41,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .. import files, plainjson
+from .. import checks, files, plainjson, units
 from ..errors import InputError, LoadcoreError, ModelError, clip, quote
 from ..history import HistorySettings, history_from_frame
 from ..version import __version__
+from . import file_checks
 from .orders import WEEKLY_PERIOD, DifferencingDecision, Orders
 from .settings import FitSettings
 from .statespace import EndState, own_name
@@ -255,20 +256,29 @@ def _document(source: str | Path | bytes) -> tuple[dict, str]:
 
 def _history(h: dict, where: str):
     demand = _floats(h["demand"])
+    temps = _floats(h["temperature_c"])
+    finite = temps[np.isfinite(temps)]
+    if finite.size and (
+        finite.min() < units.PLAUSIBLE_MIN_C or finite.max() > units.PLAUSIBLE_MAX_C
+    ):
+        raise ModelError(
+            "The history inside the model file has temperatures outside the plausible range",
+            where=f"{where}, history",
+            fix="Refit the model or use the original file",
+        )
+    unit = checks.text(h.get("demand_unit", "MW"), "demand_unit", 20, where="history")
     idx = pd.date_range(pd.Timestamp(h["start"]), periods=len(demand), freq="D", name="date")
     frame = pd.DataFrame(
         {
             "demand": demand,
-            "temperature_c": _floats(h["temperature_c"]),
+            "temperature_c": temps,
             "temperature_filled": np.asarray(h["temperature_filled"], bool),
         },
         index=idx,
     )
     if "temperature_min_c" in h:
         frame["temperature_min_c"] = _floats(h["temperature_min_c"])
-    history = history_from_frame(
-        frame, settings=HistorySettings(demand_unit=str(h.get("demand_unit", "MW")))
-    )
+    history = history_from_frame(frame, settings=HistorySettings(demand_unit=unit))
     if history.fingerprint != h["fingerprint"]:
         raise ModelError(
             "The history inside the model file does not match its fingerprint",
@@ -359,7 +369,9 @@ def read_model(source: str | Path | bytes, build: Callable[..., Any]):
     """
     data, where = _document(source)
     try:
-        return build(**model_fields(data, where))
+        model = build(**model_fields(data, where))
+        file_checks.check_loaded(model)
+        return model
     except ModelError as exc:
         if exc.where in (None, "", where):
             raise ModelError(exc.problem, where=where, fix=exc.fix) from None

@@ -20,7 +20,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import ModelError, quote
-from .orders import SHOCK_VARIANCE, Orders, error_term
+from .orders import SHOCK_VARIANCE, Orders, error_term, lag_polynomials
 
 #: Fields of :class:`EndState`, also the keys of its block in the model file.
 FIELDS = (
@@ -108,6 +108,50 @@ class EndState:
     def from_dict(cls, data: dict[str, Any]) -> EndState:
         optional = {name: data[name] for name in OPTIONAL_FIELDS if data.get(name) is not None}
         return cls(**{name: data[name] for name in FIELDS}, **optional)
+
+
+def system_matrices(
+    orders: Orders, error_params: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The transition (T), observation (Z) and selection (R) matrices of the error process,
+    built from its orders and parameters with our own code.
+
+    The layout is that of statsmodels' SARIMAX (Harvey's representation with the differencing
+    states first; Durbin and Koopman, 2012, section 3.4), so a stored :class:`EndState` can be
+    checked against the parameters it claims to come from.
+
+    Parameters
+    ----------
+    orders : Orders
+    error_params : array
+        The error parameters in :meth:`Orders.parameter_names` order, without the shock variance.
+    """
+    p, d, q, P, D, Q, s = orders.p, orders.d, orders.q, orders.P, orders.D, orders.Q, orders.period
+    ar_poly, ma_poly = lag_polynomials(np.asarray(error_params, float), p, q, P, Q, s)
+    k_order = max(len(ar_poly) - 1, len(ma_poly))
+    k_diff = d + s * D
+    k = k_diff + k_order
+    T = np.zeros((k, k))
+    block = slice(k_diff, k)
+    T[block, block] = np.eye(k_order, k=1)
+    T[k_diff : k_diff + len(ar_poly) - 1, k_diff] = -ar_poly[1:]
+    for j in range(D):  # the weekly differencing states
+        start = d + j * s
+        T[start : start + s, start : start + s] = np.eye(s, k=-1)
+        T[start, start + s - 1] = 1.0
+        if j < D - 1:
+            T[start, start + 2 * s - 1] = 1.0
+        T[start, k_diff] = 1.0
+    if d:  # the differencing states
+        T[np.triu_indices(d)] = 1.0
+        T[:d, d:k_diff] = ([0.0] * (s - 1) + [1.0]) * D
+        T[:d, k_diff] = 1.0
+    Z = np.zeros((1, k))
+    Z[0, :k_diff] = [1.0] * d + ([0.0] * (s - 1) + [1.0]) * D
+    Z[0, k_diff] = 1.0
+    R = np.zeros((k, 1))
+    R[k_diff : k_diff + len(ma_poly), 0] = ma_poly
+    return T, Z, R
 
 
 def build_state_space(

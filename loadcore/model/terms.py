@@ -7,11 +7,12 @@ scenario is always described by exactly the columns the model was fitted with.
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, fields
 
 import numpy as np
 import pandas as pd
 
+from .. import checks, units
 from ..errors import InputError
 
 #: Temperature terms are (T - reference) / 10 and its square, so both are of order one and the
@@ -51,18 +52,15 @@ class TermSpec:
     trend: bool = True
 
     def __post_init__(self) -> None:
-        if self.response not in RESPONSES:
-            raise InputError(
-                f"Unknown temperature response '{self.response}'",
-                where="model settings",
-                fix=f"Use one of: {', '.join(RESPONSES)}",
+        where = "model settings"
+        checks.one_of(self.response, "temperature response", RESPONSES, where=where)
+        for name in ("reference_temp_c", "heating_base_c", "cooling_base_c"):
+            value = checks.real_number(
+                getattr(self, name), name, units.PLAUSIBLE_MIN_C, units.PLAUSIBLE_MAX_C, where=where
             )
-        if not 0 <= int(self.annual_harmonics) <= 6:
-            raise InputError(
-                f"annual_harmonics must be between 0 and 6, got {self.annual_harmonics}",
-                where="model settings",
-                fix="Use 0 (no annual terms) to 6",
-            )
+            object.__setattr__(self, name, value)
+        checks.whole_number(self.annual_harmonics, "annual_harmonics", 0, 6, where=where)
+        checks.flag(self.trend, "trend", where=where)
         if self.response == "degree_days" and self.cooling_base_c < self.heating_base_c:
             raise InputError(
                 "The cooling base is below the heating base",
@@ -75,6 +73,13 @@ class TermSpec:
 
     @classmethod
     def from_dict(cls, data: dict) -> TermSpec:
+        """Inverse of :meth:`to_dict`; every value is checked by the constructor."""
+        if not isinstance(data, dict) or set(data) - {f.name for f in fields(cls)}:
+            raise InputError(
+                "The temperature-response settings are not ones loadcore writes",
+                where="model settings: terms",
+                fix="Use settings written by loadcore",
+            )
         return cls(**data)
 
     def temperature_columns(self) -> tuple[str, ...]:

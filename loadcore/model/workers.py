@@ -20,6 +20,8 @@ from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from typing import Any
 
+from ..checks import machine_cores
+
 log = logging.getLogger(__name__)
 
 #: The data of the search under way, as seen by the tasks (in the caller and in every worker).
@@ -27,11 +29,13 @@ SHARED: dict[str, Any] = {}
 
 
 def default_workers() -> int:
-    """Worker processes for a search: ``LOADCORE_WORKERS`` if set, else up to 2 cores."""
+    """Worker processes for a search: ``LOADCORE_WORKERS`` if set, else up to 2 cores; never
+    more than the machine's cores (:func:`loadcore.checks.machine_cores`)."""
+    cores = machine_cores()
     env = os.environ.get("LOADCORE_WORKERS", "").strip()
     if env.isdigit() and int(env) > 0:
-        return int(env)
-    return max(1, min(2, os.cpu_count() or 1))
+        return min(int(env), cores)
+    return min(2, cores)
 
 
 def _limit_blas() -> None:
@@ -82,7 +86,7 @@ class Runner:
     """
 
     def __init__(self, data: dict[str, Any], workers: int) -> None:
-        self.workers = max(1, int(workers))
+        self.workers = max(1, min(int(workers), machine_cores()))
         self.data = data
         self.pool: ProcessPoolExecutor | None = None
 

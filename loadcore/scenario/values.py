@@ -15,13 +15,13 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from .. import units
 from ..calendar import normalise_type_name
 from ..errors import InputError, ScenarioError, quote
 
-#: Plausibility limits for a daily maximum air temperature, °C: beyond these a value is almost
-#: surely a unit or typing mistake (common practice, no source; the recorded extremes lie inside).
-PLAUSIBLE_MIN_C = -60.0
-PLAUSIBLE_MAX_C = 60.0
+#: Plausibility limits for a daily maximum air temperature, °C (loadcore.units owns them).
+PLAUSIBLE_MIN_C = units.PLAUSIBLE_MIN_C
+PLAUSIBLE_MAX_C = units.PLAUSIBLE_MAX_C
 
 #: Longest scenario, days (product specification): the one length limit of scenarios and
 #: forecasts.
