@@ -113,6 +113,8 @@ DAMAGE = {
     "demand unit 100k chars": _set(("history", "demand_unit"), "x" * 100_000),
     "history temperature 900": _set(("history", "temperature_c", 3), 900.0),
     "days used 10**9": _set(("observations_used",), 10**9),
+    "regression weights 1e300": _matrix("regression_weights", lambda m: m + 1e300),
+    "regression weights one column short": _matrix("regression_weights", lambda m: m[:, :-1]),
     "differencing tests disagree": _set(("differencing_tests", "weekly_differencing"), 1),
 }
 
