@@ -115,6 +115,9 @@ def read_bytes(
 ) -> tuple[bytes, str]:
     """The bytes of a path, an open file or a bytes object, and a label for messages.
 
+    A ``str`` is always a path here (the readers take a ``str`` holding a line break as the
+    file's text, see :func:`read_text`); a missing path that looks like CSV text says so.
+
     Raises
     ------
     InputError
@@ -130,8 +133,17 @@ def read_bytes(
         try:
             info = path.stat()
         except FileNotFoundError:
+            looks_like_text = isinstance(source, str) and any(c in source for c in ",;\t|")
             raise InputError(
-                f"The {what} does not exist", where=label, fix="Check the path and file name"
+                f"The {what} does not exist",
+                where=label,
+                fix=(
+                    "A text without a line break is taken as a file path, and this one looks "
+                    "like a line of CSV text: give the text with its line breaks (or as bytes), "
+                    "or check the path"
+                )
+                if looks_like_text
+                else "Check the path and file name",
             ) from None
         except OSError as exc:
             raise InputError(

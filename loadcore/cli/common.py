@@ -178,6 +178,12 @@ def history_options() -> argparse.ArgumentParser:
         metavar="PATTERN",
         help="strftime pattern such as %%d/%%m/%%Y (detected when not given)",
     )
+    group.add_argument(
+        "--decimal",
+        choices=(".", ","),
+        default=None,
+        help="decimal mark of the file's numbers (decided from the values when not given)",
+    )
     return parent
 
 
@@ -194,6 +200,7 @@ def history_settings(args: argparse.Namespace):
         "temp_unit": args.temp_unit,
         "subdaily_demand": args.subdaily,
         "date_format": args.date_format,
+        "decimal": args.decimal,
     }
     return HistorySettings(**{k: v for k, v in given.items() if v is not None})
 

@@ -173,16 +173,39 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
     day = None
     if raw.hour is not None:
         stamps, day = _place_in_day(raw, stamps, issues)
-    demand = parse_numbers(raw.demand, raw, stamps, demand_name, "demand", issues)
+    layout = {"decimal": settings.decimal}
+    demand = parse_numbers(
+        raw.demand, raw, stamps, demand_name, "demand", issues, other=raw.temperature, **layout
+    )
     temp = _to_celsius(
-        parse_numbers(raw.temperature, raw, stamps, temp_name, "temperature", issues), settings
+        parse_numbers(
+            raw.temperature,
+            raw,
+            stamps,
+            temp_name,
+            "temperature",
+            issues,
+            other=raw.demand,
+            **layout,
+        ),
+        settings,
     )
     temps = [(temp, temp_name)]
     temp_min = None
     if raw.temp_min is not None:
         label = "minimum temperature"
         temp_min = _to_celsius(
-            parse_numbers(raw.temp_min, raw, stamps, raw.temp_min_name, label, issues), settings
+            parse_numbers(
+                raw.temp_min,
+                raw,
+                stamps,
+                raw.temp_min_name,
+                label,
+                issues,
+                other=raw.temperature,
+                **layout,
+            ),
+            settings,
         )
         temps.append((temp_min, raw.temp_min_name))
         _check_minimum(raw, stamps, temp, temp_min, issues)
@@ -245,6 +268,11 @@ def check_history(source: Any, settings: HistorySettings = HistorySettings()) ->
     return report
 
 
+def _place(message: str, label: str) -> str | None:
+    """The source's name for an error's place, unless the message already names it."""
+    return None if label and f"({label})" in message else label
+
+
 def read_history(source: Any, settings: HistorySettings = HistorySettings()) -> History:  # noqa: B008
     """Read and validate a history into a complete daily table.
 
@@ -276,7 +304,7 @@ def read_history(source: Any, settings: HistorySettings = HistorySettings()) -> 
         raise HistoryError(
             first.message + more,
             report=report,
-            where=first.where() or source_label(source),
+            where=first.where() or _place(first.message, source_label(source)),
             fix=first.fix or None,
         )
     for issue in report.warnings:

@@ -33,6 +33,11 @@ def runs(mask: np.ndarray) -> list[tuple[int, int]]:
     return list(zip(starts.tolist(), ends.tolist(), strict=True))
 
 
+def _clock(offset: pd.Timedelta) -> str:
+    minutes = int(pd.Timedelta(offset).total_seconds() // 60)
+    return f"{minutes // 60:02d}:{minutes % 60:02d}"
+
+
 def to_daily(
     stamps: pd.Series,
     rows: np.ndarray,
@@ -112,12 +117,23 @@ def to_daily(
             column=date_name,
         )
     if has_time:
-        issues.add(
-            "info",
-            "The dates carry a time of day; with one row per day the time was ignored",
-            column=date_name,
-            fix="Nothing to do",
-        )
+        times = (stamps - day).unique()
+        if len(times) == 1:
+            issues.add(
+                "warning",
+                f"Every date carries the same time of day ({_clock(times[0])}); each row was "
+                "counted on the date it shows",
+                column=date_name,
+                fix="If the rows are days of another time zone (such as UTC midnights written "
+                "in local time), give the dates of those days instead",
+            )
+        else:
+            issues.add(
+                "info",
+                "The dates carry a time of day; with one row per day the time was ignored",
+                column=date_name,
+                fix="Nothing to do",
+            )
     return pd.DataFrame(columns).groupby("date", sort=True).first()
 
 

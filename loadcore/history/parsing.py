@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore.errors import clip, quote
+from loadcore.history import numbers as layout
 from loadcore.history.reading import RawColumns
 from loadcore.history.report import Collector, iso_date
 from loadcore.history.settings import HistorySettings
@@ -137,11 +138,36 @@ def _regularity(stamps: pd.Series) -> tuple[int, int]:
     return int(counts.iloc[0]), -len(counts)
 
 
+def _utc_days_if_shifted(values: pd.Series, column: str, issues: Collector) -> pd.Series:
+    """Time-zone-aware dates are read as local wall-clock times, except when every one falls at
+    midnight UTC but not at local midnight: those are UTC days shown in a local zone (UTC
+    midnights in a US zone fall in the evening of the day before), and are read as UTC days."""
+    if not isinstance(values.dtype, pd.DatetimeTZDtype):
+        return values
+    filled = values.dropna()
+    if filled.empty:
+        return values
+    local = filled.dt.tz_localize(None)
+    utc = filled.dt.tz_convert("UTC").dt.tz_localize(None)
+    if (local != local.dt.normalize()).any() and (utc == utc.dt.normalize()).all():
+        issues.add(
+            "warning",
+            f"The dates are in the time zone {values.dt.tz} but every one is midnight UTC "
+            f"(e.g. {filled.iloc[0]:%Y-%m-%d %H:%M} there is {utc.iloc[0]:%Y-%m-%d} UTC); "
+            "they were read as UTC days",
+            column=column,
+            fix="If the days are local days, give the dates at local midnight",
+        )
+        return values.dt.tz_convert("UTC")
+    return values
+
+
 def parse_dates(raw: RawColumns, settings: HistorySettings, issues: Collector) -> pd.Series:
     """Timestamps (NaT where blank or unparseable), with issues added."""
     values = raw.date
     column = raw.names[0]
     if pd.api.types.is_datetime64_any_dtype(values):
+        values = _utc_days_if_shifted(pd.Series(values), column, issues)
         stamps = pd.Series(_to_ns(pd.Series(values)), index=values.index)
         blank_mask = values.isna().to_numpy()
         bad_mask = stamps.isna().to_numpy() & ~blank_mask
@@ -253,8 +279,41 @@ def _report_bad_dates(
         )
 
 
-_DECIMAL_COMMA = re.compile(r"^[+-]?\d+,\d+$")
-_THOUSANDS = re.compile(r"^[+-]?\d{1,3}(,\d{3})+(\.\d+)?$")
+def _table_numbers(
+    values: pd.Series,
+    raw: RawColumns,
+    stamps: pd.Series,
+    column: str,
+    label: str,
+    issues: Collector,
+) -> np.ndarray:
+    """A numeric column of a DataFrame: true/false values and infinities are errors, as a file's
+    text would be."""
+    if pd.api.types.is_bool_dtype(values):
+        issues.add(
+            "error",
+            f"The {label} column holds true/false values, not numbers",
+            column=column,
+            fix=f"Give the {label} as numbers",
+        )
+        return np.full(len(values), np.nan)
+    numbers = np.array(pd.to_numeric(values, errors="coerce"), dtype=float)
+    infinite = np.flatnonzero(np.isinf(numbers))
+    if len(infinite):
+        issues.many(
+            "error",
+            lambda i: (
+                f"The {label} is {numbers[infinite[i]]:g}, not a finite number",
+                {"row": int(raw.rows[infinite[i]]), "date": iso_date(stamps.iloc[infinite[i]])},
+            ),
+            len(infinite),
+            kind=f"infinite {label} values",
+            fix="Give finite numbers; leave the value missing (NaN) if it is not known",
+            column=column,
+            rows=[int(raw.rows[p]) for p in infinite],
+        )
+        numbers[infinite] = np.nan
+    return numbers
 
 
 def parse_numbers(
@@ -264,33 +323,48 @@ def parse_numbers(
     column: str,
     label: str,
     issues: Collector,
+    *,
+    decimal: str | None = None,
+    other: pd.Series | None = None,
 ) -> np.ndarray:
-    """Floats, NaN for blanks and bad cells (each bad cell an error naming row, date, column)."""
+    """Floats, NaN for blanks and bad cells (each bad cell an error naming row, date, column).
+
+    Text cells are read in one layout for the whole column (:mod:`loadcore.history.numbers`):
+    ``decimal`` (``"."`` or ``","``) when given, else decided from the column's values and, when
+    they do not tell, from ``other`` (the file's other number column).
+    """
     if pd.api.types.is_numeric_dtype(values):
-        return np.array(pd.to_numeric(values, errors="coerce"), dtype=float)
-    try:  # fastest path: every cell is a plain finite number (most clean files)
-        plain = np.asarray(values.to_numpy(dtype=object), dtype=float)
-        if np.isfinite(plain).all():
-            return plain
-    except (ValueError, TypeError):
-        pass
+        return _table_numbers(values, raw, stamps, column, label, issues)
+    if decimal != ",":
+        try:  # fastest path: every cell is a plain finite number (most clean files)
+            plain = np.asarray(values.to_numpy(dtype=object), dtype=float)
+            if np.isfinite(plain).all():
+                return plain
+        except (ValueError, TypeError):
+            pass
     text = pd.Series([str(v).strip() for v in values], index=values.index, dtype=object)
     blank = np.fromiter((v.lower() in _MISSING_TOKENS for v in text), dtype=bool, count=len(text))
-    try:  # fast path: every filled cell is a plain number
-        numbers = np.array(np.where(blank, "nan", text.to_numpy()), dtype=float)
-    except ValueError:
-        numbers = np.array(pd.to_numeric(text.where(~blank, None), errors="coerce"), dtype=float)
-    bad = ~blank & np.isnan(numbers)
-    if bad.any():
-        cleaned = text[bad].str.replace(r"[\s_]", "", regex=True)
-        fixed = cleaned.map(
-            lambda s: (
-                s.replace(",", ".")
-                if _DECIMAL_COMMA.match(s)
-                else (s.replace(",", "") if _THOUSANDS.match(s) else s)
-            )
+    cells = text[~blank].map(layout.clean)
+    own = layout.evidence(cells)
+    seen = None
+    if decimal is None and own.either and own.decimal is None and other is not None:
+        other_text = other.astype(str).str.strip()
+        seen = layout.evidence(
+            other_text[~other_text.str.lower().isin(_MISSING_TOKENS)].map(layout.clean)
         )
-        numbers[bad] = np.array(pd.to_numeric(fixed, errors="coerce"), dtype=float)
+    decision = layout.decide(own, seen, label, decimal)
+    if decision.problem:
+        issues.add("error", decision.problem, column=column, fix=decision.fix)
+        return np.full(len(text), np.nan)
+    if decision.note:
+        issues.add(
+            "info",
+            decision.note,
+            column=column,
+            fix="If that is wrong, set decimal to '.' or ',' (CLI --decimal)",
+        )
+    numbers = np.full(len(text), np.nan)
+    numbers[~blank] = layout.to_numbers(cells, decision.decimal)
     infinite = ~np.isnan(numbers) & ~np.isfinite(numbers)
     numbers[infinite] = np.nan
     bad = ~blank & np.isnan(numbers)

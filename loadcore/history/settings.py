@@ -52,6 +52,12 @@ class HistorySettings:
         are errors.
     max_demand_gap_days : int
         Demand gaps up to this many days are kept as missing values; longer gaps are errors.
+    decimal : {".", ","} or None
+        The decimal mark of the file's numbers; ``None`` decides it for each column from all its
+        values (:mod:`loadcore.history.numbers`), an error when nothing in the file tells.
+    drop_outliers : bool
+        Treat the days flagged as outliers (:mod:`loadcore.history.outliers`) as missing demand
+        instead of only reporting them.
     """
 
     date_col: str = "date"
@@ -66,6 +72,8 @@ class HistorySettings:
     date_format: str | None = None
     max_temp_gap_days: int = 3
     max_demand_gap_days: int = 31
+    decimal: str | None = None
+    drop_outliers: bool = False
 
     def __post_init__(self) -> None:
         where = "history settings: temp_unit"
@@ -105,15 +113,29 @@ class HistorySettings:
             value = getattr(self, name)
             if value is not None and not str(value).strip():
                 object.__setattr__(self, name, None)  # an empty field means "no such column"
-        named = [str(getattr(self, n)).strip().lower() for n in self.column_settings()]
-        for name in self.column_settings()[3:]:
-            if named.count(str(getattr(self, name)).strip().lower()) > 1:
+        names = self.column_settings()
+        named = [str(getattr(self, n)).strip().lower() for n in names]
+        for i, name in enumerate(names):
+            if named[i] in named[:i]:
+                first = names[named.index(named[i])]
                 raise HistoryError(
-                    f"The {name} setting names the same column as another setting "
-                    f"({getattr(self, name)!r})",
+                    f"The {first} and {name} settings name the same column "
+                    f"({quote(getattr(self, name))})",
                     where=f"history settings: {name}",
                     fix="Give each setting its own column of the file",
                 )
+        if self.decimal not in (None, ".", ","):
+            raise HistoryError(
+                f"Unknown decimal mark {quote(self.decimal)}",
+                where="history settings: decimal",
+                fix="Use '.' (1441.5) or ',' (1441,5), or leave it unset to detect it",
+            )
+        if not isinstance(self.drop_outliers, bool):
+            raise HistoryError(
+                f"drop_outliers must be true or false, got {quote(self.drop_outliers)}",
+                where="history settings: drop_outliers",
+                fix="Give True or False",
+            )
 
     def column_settings(self) -> tuple[str, ...]:
         """The names of the settings that name a column of the file, those in use only."""
