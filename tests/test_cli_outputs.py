@@ -68,6 +68,8 @@ def _spellings(tmp_path: Path, target: Path) -> list[Path]:
 
 def _commands(f: dict[str, Path]) -> list[tuple[list[str], Path, str]]:
     """(argv before the output path, the input it must not overwrite, the output option)."""
+    save = ["scenarios", "save", str(f["scenario"]), "--name", "other", "--model", str(f["model"])]
+    save.append("--db")
     return [
         (["fit", str(f["history"]), *SMALL_SEARCH, "--out"], f["history"], "--out"),
         (["forecast", str(f["model"]), str(f["scenario"]), "--out"], f["model"], "--out"),
@@ -78,34 +80,8 @@ def _commands(f: dict[str, Path]) -> list[tuple[list[str], Path, str]]:
             f["library"],
             "--out",
         ),
-        (
-            [
-                "scenarios",
-                "save",
-                str(f["scenario"]),
-                "--name",
-                "other",
-                "--model",
-                str(f["model"]),
-                "--db",
-            ],
-            f["scenario"],
-            "--db",
-        ),
-        (
-            [
-                "scenarios",
-                "save",
-                str(f["scenario"]),
-                "--name",
-                "other",
-                "--model",
-                str(f["model"]),
-                "--db",
-            ],
-            f["model"],
-            "--db",
-        ),
+        (save, f["scenario"], "--db"),
+        (save, f["model"], "--db"),
     ]
 
 
