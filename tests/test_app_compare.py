@@ -18,7 +18,13 @@ from test_app_support import (
     texts,
 )
 
-from loadcore.export import comparison_figure, comparison_summary, forecast_table, to_csv_bytes
+from loadcore.export import (
+    comparison_figure,
+    comparison_summary,
+    forecast_table,
+    round_for_planners,
+    to_csv_bytes,
+)
 from loadcore.scenario import Scenario, make_scenario, seasonal_normal_path
 
 
@@ -89,7 +95,7 @@ def test_csv_download_is_loadcore_export_of_the_same_scenarios(unit):
         at = _compare(unit)
         data = download_bytes(at, "cmp_csv")
     assert_no_exception(at)
-    assert data == to_csv_bytes(forecast_table(forecasts, temp_unit=unit))
+    assert data == to_csv_bytes(round_for_planners(forecast_table(forecasts, temp_unit=unit)))
     header = data.decode().splitlines()[0].split(",")
     temp = "temperature_f" if unit == "F" else "temperature_c"
     assert header[:6] == ["scenario", "date", temp, "day_type", "mean", "median"]

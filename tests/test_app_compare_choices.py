@@ -23,7 +23,7 @@ from test_app_support import (
     texts,
 )
 
-from loadcore.export import forecast_table, to_csv_bytes
+from loadcore.export import forecast_table, round_for_planners, to_csv_bytes
 from loadcore.scenario import constant_path, make_scenario, seasonal_normal_path
 
 
@@ -99,7 +99,7 @@ def test_everything_on_the_page_follows_the_scenarios_shown():
         if "scenario" in frame.columns:
             assert set(frame["scenario"]) <= {"Mild", "Seasonal normal"}
     shown = [model.forecast(_three()[n]) for n in ("Mild", "Seasonal normal")]
-    assert data == to_csv_bytes(forecast_table(shown, temp_unit="C"))
+    assert data == to_csv_bytes(round_for_planners(forecast_table(shown, temp_unit="C")))
 
 
 def test_the_meeting_brief_downloads_from_compare():

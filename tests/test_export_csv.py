@@ -149,3 +149,37 @@ def test_to_csv_bytes_handles_repeated_and_odd_column_names():
     text = to_csv_bytes(frame).decode()
     assert text.splitlines() == ["a,a,7", "1,'=x,3"]
     assert to_csv_bytes(pd.DataFrame()).decode().strip() == ""
+
+
+def test_round_for_planners_uses_the_digits_a_planner_reads():
+    """0.1 °C, 1 MW, 0.1 % and 0.001 for shares (common practice, no source)."""
+    from loadcore.export import round_for_planners
+
+    frame = pd.DataFrame(
+        {
+            "scenario": ["a"],
+            "temperature_f": [101.23456],
+            "out_of_range_by_f": [2.345],
+            "mean": [1834.567],
+            "lower_97.5": [1700.49],
+            "p90": [1999.5001],
+            "peak_vs_base_pct": [3.14159],
+            "coverage_80": [0.81234],
+            "weather_share": [0.45678],
+            "days": [14],
+        }
+    )
+    out = round_for_planners(frame)
+    assert out.iloc[0].to_dict() == {
+        "scenario": "a",
+        "temperature_f": 101.2,
+        "out_of_range_by_f": 2.3,
+        "mean": 1835.0,
+        "lower_97.5": 1700.0,
+        "p90": 2000.0,
+        "peak_vs_base_pct": 3.1,
+        "coverage_80": 0.812,
+        "weather_share": 0.457,
+        "days": 14,
+    }
+    assert frame["mean"].iloc[0] == 1834.567  # a copy

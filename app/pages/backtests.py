@@ -9,6 +9,7 @@ import streamlit as st
 from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
 from loadcore.evaluate import backtest
+from loadcore.export import round_for_planners, to_csv_bytes
 from loadcore.levels import coverage_column, level_label
 
 st.title("Backtests")
@@ -111,6 +112,15 @@ st.dataframe(
     width="stretch",
     column_config=tables.backtest_horizon_columns(by_h.columns, fitted.demand_unit),
 )
+st.download_button(
+    "Download the scores by days ahead (CSV)",
+    data=to_csv_bytes(round_for_planners(by_h)),
+    file_name="loadcore_backtest_by_days_ahead.csv",
+    mime="text/csv",
+    icon=":material/download:",
+    key="bt_csv",
+    on_click="ignore",
+)
 
 st.subheader("PIT histogram")
 counts, edges = result.pit_histogram(10)
@@ -132,6 +142,15 @@ st.caption(
 )
 with st.expander("Every backtest forecast"):
     table = pd.DataFrame(result.forecasts)
+    st.download_button(
+        "Download every backtest forecast (CSV)",
+        data=to_csv_bytes(round_for_planners(table)),
+        file_name="loadcore_backtest_forecasts.csv",
+        mime="text/csv",
+        icon=":material/download:",
+        key="bt_forecasts_csv",
+        on_click="ignore",
+    )
     if "temperature_c" in table.columns:
         table.insert(
             list(table.columns).index("temperature_c"),

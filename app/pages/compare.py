@@ -18,6 +18,7 @@ from loadcore.export import (
     comparison_summary,
     forecast_table,
     meeting_brief_html,
+    round_for_planners,
     summarise_model,
     to_csv_bytes,
 )
@@ -240,7 +241,7 @@ st.dataframe(
 left, middle, right = st.columns(3)
 left.download_button(
     "Download the forecasts shown (CSV)",
-    data=to_csv_bytes(daily),
+    data=to_csv_bytes(round_for_planners(daily)),
     file_name="loadcore_scenarios.csv",
     mime="text/csv",
     icon=":material/download:",

@@ -6,7 +6,8 @@ import streamlit as st
 
 from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
-from loadcore.weather import ensemble_forecast
+from loadcore.export import round_for_planners, to_csv_bytes
+from loadcore.weather import ensemble_forecast, ensemble_table
 
 st.title("Weather ensembles")
 fitted = display.need_model()
@@ -119,5 +120,14 @@ st.dataframe(
     width="stretch",
     height=320,
     column_config=tables.ensemble_columns(fitted.demand_unit),
+)
+st.download_button(
+    "Download the ensemble (CSV)",
+    data=to_csv_bytes(round_for_planners(ensemble_table(result))),
+    file_name="loadcore_ensemble.csv",
+    mime="text/csv",
+    icon=":material/download:",
+    key="ens_csv",
+    on_click="ignore",
 )
 display.footer()

@@ -19,6 +19,7 @@ from loadcore.export.figures import comparison_figure, figure_html, style_figure
 from loadcore.export.forecasts import ForecastLike
 from loadcore.export.safe_csv import (
     FORMULA_PREFIXES,
+    round_for_planners,
     safe_cell,
     safe_frame,
     starts_formula,
@@ -48,4 +49,5 @@ __all__ = [
     "style_figure",
     "summarise_model",
     "to_csv_bytes",
+    "round_for_planners",
 ]

@@ -8,6 +8,7 @@ endings, ISO 8601 dates and a fixed number of significant digits.
 from __future__ import annotations
 
 import io
+import re
 import unicodedata
 from datetime import date, datetime
 from typing import Any
@@ -180,3 +181,59 @@ def _iso_if_date(value: Any) -> Any:
     if isinstance(value, date):
         return value.isoformat()
     return value
+
+
+# Digits a planner reads (common practice, no source): temperatures to 0.1 degree, demand to the
+# whole MW, percentages to 0.1 %, shares (0 to 1) to 0.001 (0.1 %), scores to 3 decimals.
+TEMPERATURE_DIGITS = 1
+DEMAND_DIGITS = 0
+PERCENT_DIGITS = 1
+SHARE_DIGITS = 3
+
+
+_DEMAND_COLUMNS = frozenset(
+    {"mean", "median", "actual", "naive", "peak_mean", "sum_of_daily_means", "peak_vs_base"}
+    | {"sum_vs_base", "rmse", "naive_rmse", "crps", "scale"}
+)
+_SHARE_COLUMNS = frozenset({"weather_share", "prob_above", "pit", "mase", "naive_mase"})
+
+
+def _planner_digits(column: str) -> int | None:
+    """Digits for a column of loadcore's tables, by its name (None: leave it as it is)."""
+    name = str(column)
+    if name.startswith(("temperature_", "out_of_range_by_")):
+        return TEMPERATURE_DIGITS
+    if name.endswith("_pct") or name in ("mape", "naive_mape", "pinball"):
+        return PERCENT_DIGITS
+    if name.startswith("coverage_") or name in _SHARE_COLUMNS:
+        return SHARE_DIGITS
+    if name in _DEMAND_COLUMNS or re.fullmatch(r"(lower|upper)_[0-9._]+|p[0-9]+", name):
+        return DEMAND_DIGITS
+    return None
+
+
+def round_for_planners(frame: pd.DataFrame) -> pd.DataFrame:
+    """A copy of one of loadcore's tables rounded to the digits a planner reads.
+
+    Temperatures (``temperature_c``/``_f``, ``out_of_range_by_*``) to 0.1 degree, demand
+    (``mean``, ``median``, ``lower_L``/``upper_L``, quantiles ``pNN``, ``actual``, differences
+    from a base) to the whole unit, percentages (``*_pct``, MAPE) to 0.1, shares from 0 to 1
+    (coverage, probabilities, weather share, PIT) and MASE to 3 decimals. Other columns are
+    left as they are.
+
+    Parameters
+    ----------
+    frame : pandas.DataFrame
+        A forecast, comparison, ensemble or backtest table.
+
+    Returns
+    -------
+    pandas.DataFrame
+        The rounded copy (the table's ``attrs`` kept).
+    """
+    out = frame.copy()
+    for column in out.columns:
+        digits = _planner_digits(column)
+        if digits is not None and pd.api.types.is_float_dtype(out[column].dtype):
+            out[column] = out[column].round(digits)
+    return out
