@@ -666,3 +666,40 @@ def prepare_library_form(names: list[str]) -> str | None:
     if message is not None:
         session[LIB_NOTE_WIDGET] = ""
     return message
+
+
+# --------------------------------------------------------------------------------------------
+# The History page's upload form: the file's own columns, with loadcore's guesses as defaults
+# --------------------------------------------------------------------------------------------
+
+# Widget keys of the History page's column choices and the file's unit, by HistorySettings name.
+HISTORY_COLUMN_WIDGETS = {
+    "date_col": "history_date_col",
+    "demand_col": "history_demand_col",
+    "temp_col": "history_temp_col",
+    "hour_col": "history_hour_col",
+    "temp_min_col": "history_temp_min_col",
+}
+HISTORY_UNIT_WIDGET = "history_file_unit"
+HISTORY_FORM_FILE = "history_form_file"
+# The optional columns are guessed but not chosen: a wrong hour column changes the whole file.
+OPTIONAL_COLUMNS = ("hour_col", "temp_min_col")
+
+
+def prepare_history_form(file_id: str, preview) -> None:
+    """Before the upload form's choices are drawn: for a new file (``file_id``), start them at
+    ``preview``'s guesses (``loadcore.history.preview.FilePreview``); the planner's own choices
+    for the same file are kept."""
+    session = st.session_state
+    if session.get(HISTORY_FORM_FILE) == file_id:
+        return
+    session[HISTORY_FORM_FILE] = file_id
+    columns = list(preview.columns)
+    for setting, key in HISTORY_COLUMN_WIDGETS.items():
+        guess = preview.guesses.get(setting)
+        if setting in OPTIONAL_COLUMNS:
+            session[key] = ""
+        else:
+            session[key] = guess if guess in columns else (columns[0] if columns else "")
+    if preview.unit_hint in ("C", "F"):
+        session[HISTORY_UNIT_WIDGET] = preview.unit_hint

@@ -22,6 +22,7 @@ from loadcore.history import HistorySettings, read_history
 
 def _upload(at, data: bytes, name: str = "upload.csv", **options):
     at.file_uploader(key="history_upload").set_value((name, data, "text/csv"))
+    at.run()  # the column choices are the file's own columns
     for key, value in options.items():
         widget = at.get_by_key(key)
         widget.set_value(value)

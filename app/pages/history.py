@@ -10,17 +10,23 @@ import pandas as pd
 import streamlit as st
 
 from app import charts, display, state, tables
-from app.plain import md
+from app.plain import md, quoted
 from loadcore.calendar import day_types, overrides_from_text
 from loadcore.errors import LoadcoreError
 from loadcore.files import check_upload_size
 from loadcore.history import HistorySettings, read_history
+from loadcore.history.preview import preview_history_file
 
 st.title("History")
 st.caption(
     "The daily demand and temperature the model learns from. The demo data (the invented Calder "
     "Basin Power & Light) is loaded to start with; upload your own daily or sub-daily file below."
 )
+
+
+@st.cache_resource(max_entries=8, show_spinner=False)
+def _preview(_data: bytes, digest: str):
+    return preview_history_file(_data)
 
 
 @st.cache_resource(max_entries=8, show_spinner="Reading and checking the file...")
@@ -44,10 +50,50 @@ with st.expander("Upload a history file", expanded=False):
         type=["csv", "txt", "tsv"],
         key="history_upload",
     )
-    left, middle, right = st.columns(3)
-    date_col = left.text_input("Date column", value="date", key="history_date_col")
-    demand_col = middle.text_input("Demand column", value="demand", key="history_demand_col")
-    temp_col = right.text_input("Temperature column", value="temperature", key="history_temp_col")
+    preview = None
+    if upload is not None:
+        ok, preview = display.attempt(
+            lambda: _preview(upload.getvalue(), hashlib.sha256(upload.getvalue()).hexdigest()),
+            f"{upload.name} cannot be read",
+        )
+    if preview is not None and preview.columns:
+        state.prepare_history_form(hashlib.sha256(upload.getvalue()).hexdigest(), preview)
+        st.caption(
+            f"The file has {len(preview.columns)} columns ("
+            + ", ".join(quoted(c, limit=40) for c in preview.columns[:12])
+            + (", ..." if len(preview.columns) > 12 else "")
+            + f") separated by a {preview.delimiter_name}"
+            + (
+                f"; its dates look like {' or '.join(preview.date_layouts)}"
+                if preview.date_layouts
+                else ""
+            )
+            + (f"; {md(preview.unit_reason)}" if preview.unit_reason else "")
+            + ". The choices below start from loadcore's best guess."
+        )
+        columns = list(preview.columns)
+        optional = ["", *columns]
+        none_label = {"": "(none)"}
+        left, middle, right = st.columns(3)
+        date_col = left.selectbox("Date column", columns, key="history_date_col")
+        demand_col = middle.selectbox("Demand column", columns, key="history_demand_col")
+        temp_col = right.selectbox("Temperature column", columns, key="history_temp_col")
+        hinted = {
+            s: preview.guesses.get(s) for s in state.OPTIONAL_COLUMNS if preview.guesses.get(s)
+        }
+        if hinted:
+            st.caption(
+                "Also in the file: "
+                + ", ".join(
+                    f"{md(column)} (looks like the {'hour' if s == 'hour_col' else 'minimum'}"
+                    " column)"
+                    for s, column in hinted.items()
+                )
+                + "; choose it below if so."
+            )
+    else:
+        columns, optional, none_label = [], [""], {"": "(none)"}
+        date_col = demand_col = temp_col = ""
     left, middle, right = st.columns(3)
     file_unit = left.radio(
         "Temperatures in the file are in",
@@ -77,23 +123,24 @@ with st.expander("Upload a history file", expanded=False):
         placeholder="e.g. %d/%m/%Y",
         key="history_date_format",
     )
-    hour_col = middle.text_input(
+    hour_col = middle.selectbox(
         "Hour column (if the hour has its own column)",
-        value="",
-        placeholder="e.g. hour",
+        optional,
+        format_func=lambda c: none_label.get(c, c),
         key="history_hour_col",
         help="Hour numbers 1-24 (hour ending) or 0-23 (hour beginning), detected from the "
         "values, or a time of day such as 13:00.",
     )
-    temp_min_col = right.text_input(
+    temp_min_col = right.selectbox(
         "Minimum temperature column (optional)",
-        value="",
-        placeholder="e.g. tmin",
+        optional,
+        format_func=lambda c: none_label.get(c, c),
         key="history_temp_min_col",
         help="For a daily file with the day's minimum beside its maximum; hourly files give "
         "it without this.",
     )
-    if st.button("Check and use this file", type="primary", disabled=upload is None):
+    rejected = False
+    if st.button("Check and use this file", type="primary", disabled=not columns):
         data = upload.getvalue()
         try:
             check_upload_size(len(data))
@@ -112,6 +159,7 @@ with st.expander("Upload a history file", expanded=False):
         except LoadcoreError as exc:
             display.show_error(exc, "The file was not used")
             st.caption("The history in use, the model and the scenarios are unchanged.")
+            rejected = True
         else:
             state.use_history(new, f"uploaded file {upload.name}")
             st.success(f"Using {md(upload.name)}: {new.start.date()} to {new.end.date()}.")
@@ -134,9 +182,14 @@ if fitted is not None and fitted.history.fingerprint != history.fingerprint:
 # Validation report
 # --------------------------------------------------------------------------------------------
 st.subheader("Checks on the data")
+if rejected:
+    st.caption(
+        f"The checks below are those of the history still in use ({md(state.history_source())}), "
+        "not of the file that was not used; its problems are listed above."
+    )
 report = history.report
 issues = report.to_frame()
-if report.ok and not len(report.warnings):
+if report.ok and not len(report.warnings) and not rejected:
     st.success("No problems found.", icon=":material/check_circle:")
 elif report.ok:
     st.warning(
