@@ -78,6 +78,8 @@ REPO_ROOT = Path(__file__).resolve().parent.parent
 DEMO_HISTORY = REPO_ROOT / "demo_data" / "history.csv"
 DEMO_MODEL = REPO_ROOT / "demo_data" / "demo_model.json"
 HISTORY_ENV = "LOADCORE_HISTORY"
+# The HistorySettings of that file as JSON (``loadcore app --history FILE --date-col ...``).
+HISTORY_SETTINGS_ENV = "LOADCORE_HISTORY_SETTINGS"
 
 # Session-state keys (documented above).
 HISTORY = "history"
@@ -151,12 +153,15 @@ def demo_model(history_fingerprint: str):
 
 
 @st.cache_resource(show_spinner="Reading the history file...")
-def file_history(path: str):
+def file_history(path: str, settings_json: str = ""):
     """The history file named by the LOADCORE_HISTORY environment variable (``loadcore app
-    --history FILE``), read with the default settings."""
-    from loadcore.history import read_history
+    --history FILE``), read with the settings ``loadcore app`` passed as JSON (its history
+    options, as ``fit`` takes them; the defaults when there are none)."""
+    from loadcore import plainjson
+    from loadcore.history import HistorySettings, read_history
 
-    return read_history(path)
+    given = plainjson.loads(settings_json, what="history settings") if settings_json else {}
+    return read_history(path, HistorySettings(**given))
 
 
 def init_state() -> list[tuple[LoadcoreError, str]]:
@@ -176,7 +181,7 @@ def init_state() -> list[tuple[LoadcoreError, str]]:
         history = None
         if chosen:
             try:
-                history = file_history(chosen)
+                history = file_history(chosen, os.environ.get(HISTORY_SETTINGS_ENV, ""))
                 state[HISTORY_SOURCE] = f"file {Path(chosen).name}"
             except LoadcoreError as exc:
                 problems.append(

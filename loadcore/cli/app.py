@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import dataclasses
 import ipaddress
 import os
 import subprocess
@@ -11,7 +12,8 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from loadcore.cli.common import port_arg, require_file
+from loadcore import plainjson
+from loadcore.cli.common import history_options, history_settings, port_arg, require_file
 from loadcore.errors import LoadcoreError
 
 #: Port Streamlit listens on when --port is not given (Streamlit's usual port).
@@ -83,6 +85,9 @@ def run(args: argparse.Namespace) -> int:
         history = Path(args.history)
         require_file(str(history), "history file")
         env["LOADCORE_HISTORY"] = str(history.resolve())
+        # The same column and unit options as `fit`, checked here and passed to the app.
+        settings = history_settings(args)
+        env["LOADCORE_HISTORY_SETTINGS"] = plainjson.dumps(dataclasses.asdict(settings))
     library = env.get("LOADCORE_LIBRARY", "").strip()
     if library:
         env["LOADCORE_LIBRARY"] = str(Path(library).expanduser().resolve())
@@ -111,6 +116,7 @@ def run(args: argparse.Namespace) -> int:
 def add(sub: Any) -> None:
     parser = sub.add_parser(
         "app",
+        parents=[history_options()],
         help="start the planning app in the browser",
         description="Start the Streamlit app (app/main.py) without opening a browser window.",
     )
@@ -127,6 +133,7 @@ def add(sub: Any) -> None:
         "--history",
         default=None,
         metavar="FILE",
-        help="history file to open instead of the demo (passed as LOADCORE_HISTORY)",
+        help="history file to open instead of the demo, read with the history options below "
+        "(as `fit` reads it)",
     )
     parser.set_defaults(handler=run)
