@@ -22,7 +22,6 @@ from .paths import (
     shift_path,
 )
 from .values import MAX_DAYS, PLAUSIBLE_MAX_C, PLAUSIBLE_MIN_C, fill_blank_day_types
-from .windows import SuggestedWindow, suggested_windows
 
 __all__ = [
     "DEFINITION_KIND",
@@ -40,8 +39,6 @@ __all__ = [
     "make_scenario",
     "read_scenario_csv",
     "same_days_after",
-    "suggested_windows",
-    "SuggestedWindow",
     "seasonal_normal_path",
     "shift_path",
     "write_scenario_csv",
