@@ -43,11 +43,13 @@ _OLE_MAGIC = b"\xd0\xcf\x11\xe0"
 
 @dataclass(frozen=True)
 class TextFile:
-    """A decoded file: ``text``, the ``encoding`` used and a ``label`` for messages."""
+    """A decoded file: ``text``, the ``encoding`` used, a ``label`` for messages, and whether
+    the text is the ``complete`` file (False for a head cut by :func:`read_head`)."""
 
     text: str
     encoding: str
     label: str
+    complete: bool = True
 
     @property
     def fallback(self) -> bool:
@@ -123,81 +125,118 @@ def read_bytes(
     InputError
         When the path does not exist, is not a regular file, cannot be read, or is over the cap.
     """
+    data, label, _ = _read(source, what=what, cap=limit_bytes(limit_mb), whole=True)
+    return data, label
+
+
+def read_head(source: Any, *, what: str = "file", n_bytes: int) -> TextFile:
+    """The decoded beginning of a file, at most ``n_bytes`` long and cut after its last whole
+    line; ``complete`` says whether that is the whole file. Nothing beyond is read, so a reader
+    that needs only the first rows does not pay for a huge file (the same checks as
+    :func:`read_bytes` otherwise: regular files only, spreadsheets and binary data named)."""
+    if isinstance(source, str) and ("\n" in source or "\r" in source):
+        text = source[:n_bytes]
+        complete = len(source) <= n_bytes
+        if not complete:
+            text = text[: max(text.rfind("\n"), 0)]
+        return TextFile(text, "text", "", complete)
+    data, label, complete = _read(source, what=what, cap=n_bytes, whole=False)
+    if not complete:
+        data = data[: max(data.rfind(b"\n"), 0)]
+    decoded = decode(data, what=what, label=label)
+    return TextFile(decoded.text, decoded.encoding, label, complete)
+
+
+def _read(source: Any, *, what: str, cap: int, whole: bool) -> tuple[bytes, str, bool]:
+    """At most ``cap`` bytes of ``source``, its label, and whether that was all of it. With
+    ``whole`` a larger source is refused (its size checked before reading where known)."""
+
+    def over(n_bytes: int) -> bool:
+        if n_bytes > cap and whole:
+            check_size(n_bytes, limit_mb=cap / BYTES_PER_MB, what=what)
+        return n_bytes > cap
+
     if isinstance(source, bytes | bytearray | memoryview):
         data = bytes(source)
-        check_size(len(data), limit_mb=limit_mb, what=what)
-        return data, ""
+        return (data, "", True) if not over(len(data)) else (data[:cap], "", False)
     if isinstance(source, str | os.PathLike):
         path = Path(source)
         label = str(path)
-        try:
-            info = path.stat()
-        except FileNotFoundError:
-            looks_like_text = isinstance(source, str) and any(c in source for c in ",;\t|")
-            raise InputError(
-                f"The {what} does not exist",
-                where=label,
-                fix=(
-                    "A text without a line break is taken as a file path, and this one looks "
-                    "like a line of CSV text: give the text with its line breaks (or as bytes), "
-                    "or check the path"
-                )
-                if looks_like_text
-                else "Check the path and file name",
-            ) from None
-        except OSError as exc:
-            raise InputError(
-                f"The {what} cannot be opened ({exc.strerror or exc})",
-                where=label,
-                fix="Check the path and that you may read it",
-            ) from None
-        if stat.S_ISDIR(info.st_mode):
-            raise InputError(
-                f"The {what} is a folder, not a file", where=label, fix="Give the path of a file"
-            )
-        if not stat.S_ISREG(info.st_mode):
-            raise InputError(
-                f"The {what} is not a regular file (it is a device, a pipe or a socket)",
-                where=label,
-                fix="Save the data to an ordinary file and give its path",
-            )
-        check_size(info.st_size, limit_mb=limit_mb, what=what)
+        _check_regular(path, source, what)
+        if whole:
+            over(path.stat().st_size)
         try:
             with path.open("rb") as handle:
-                data = handle.read(limit_bytes(limit_mb) + 1)
+                data = handle.read(cap + 1)
         except OSError as exc:
             raise InputError(
                 f"The {what} cannot be read ({exc.strerror or exc})",
                 where=label,
                 fix="Check that the file is not open elsewhere and that you may read it",
             ) from None
-        check_size(len(data), limit_mb=limit_mb, what=what)
-        return data, label
+        return (data, label, True) if not over(len(data)) else (data[:cap], label, False)
     if hasattr(source, "read"):
         label = str(getattr(source, "name", "") or "")
         size = getattr(source, "size", None)
-        if isinstance(size, int):
-            check_size(size, limit_mb=limit_mb, what=what)
-        data = source.read(limit_bytes(limit_mb) + 1)
+        if isinstance(size, int) and whole:
+            over(size)
+        data = source.read(cap + 1)
         if isinstance(data, str):
             data = data.encode("utf-8")
-        check_size(len(data), limit_mb=limit_mb, what=what)
-        return bytes(data), label
+        data = bytes(data)
+        return (data, label, True) if not over(len(data)) else (data[:cap], label, False)
     raise InputError(
         f"A {what} cannot be read from a {type(source).__name__}",
         fix="Give a file path, an open file or the file's bytes",
     )
 
 
-def not_text_reason(data: bytes) -> str | None:
-    """Why these bytes are not a text table (a spreadsheet, UTF-16, binary), or None."""
+def _check_regular(path: Path, source: Any, what: str) -> None:
+    """Refuse a path that is missing, a folder, or not a regular file (a device, a pipe)."""
+    label = str(path)
+    try:
+        info = path.stat()
+    except FileNotFoundError:
+        looks_like_text = isinstance(source, str) and any(c in source for c in ",;\t|")
+        raise InputError(
+            f"The {what} does not exist",
+            where=label,
+            fix=(
+                "A text without a line break is taken as a file path, and this one looks "
+                "like a line of CSV text: give the text with its line breaks (or as bytes), "
+                "or check the path"
+            )
+            if looks_like_text
+            else "Check the path and file name",
+        ) from None
+    except OSError as exc:
+        raise InputError(
+            f"The {what} cannot be opened ({exc.strerror or exc})",
+            where=label,
+            fix="Check the path and that you may read it",
+        ) from None
+    if stat.S_ISDIR(info.st_mode):
+        raise InputError(
+            f"The {what} is a folder, not a file", where=label, fix="Give the path of a file"
+        )
+    if not stat.S_ISREG(info.st_mode):
+        raise InputError(
+            f"The {what} is not a regular file (it is a device, a pipe or a socket)",
+            where=label,
+            fix="Save the data to an ordinary file and give its path",
+        )
+
+
+def not_text_reason(data: bytes, expected: str = "a CSV file") -> str | None:
+    """Why these bytes are not the ``expected`` text (a spreadsheet, a ZIP archive, UTF-16,
+    binary data), or None."""
     head = data[:8]
     if head.startswith(_ZIP_MAGIC):
         if b"xl/" in data[:4096] or b"[Content_Types].xml" in data[:4096]:
-            return "an Excel workbook (XLSX), not a CSV file"
-        return "a ZIP archive, not a CSV file"
+            return f"an Excel workbook (XLSX), not {expected}"
+        return f"a ZIP archive, not {expected}"
     if head.startswith(_OLE_MAGIC):
-        return "an old-style Excel workbook (XLS), not a CSV file"
+        return f"an old-style Excel workbook (XLS), not {expected}"
     if head.startswith(_UTF16_BOMS) or (
         len(data) >= 4 and b"\x00\x00" in (data[1:4:2], data[0:4:2]) and data[:4].count(0) == 2
     ):

@@ -18,6 +18,7 @@ from typing import Any, Literal
 import numpy as np
 import pandas as pd
 
+from loadcore import files
 from loadcore.errors import InputError, clip
 
 #: Deepest nesting of arrays and objects accepted in a JSON file (our files need 6; our choice).
@@ -131,6 +132,12 @@ def loads(text: str | bytes, *, what: str = "JSON file", max_depth: int = MAX_DE
         When the text is not JSON, nests deeper than ``max_depth``, or holds NaN or Infinity.
     """
     if isinstance(text, bytes | bytearray):
+        reason = files.not_text_reason(bytes(text[:8192]), expected="a JSON file")
+        if reason:
+            raise InputError(
+                f"The {what} is {reason}",
+                fix="Use a file written by loadcore (JSON text in UTF-8)",
+            )
         try:
             text = bytes(text).decode("utf-8-sig")
         except UnicodeDecodeError:

@@ -14,19 +14,18 @@ import csv
 import dataclasses
 import io
 import os
-from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from loadcore import files
+from loadcore import files, tables
 from loadcore.errors import InputError, clip, quote, quote_all
 from loadcore.history.report import Collector
 from loadcore.history.settings import HistorySettings
 
-DELIMITERS = (",", ";", "\t", "|")
+DELIMITERS = tables.DELIMITERS
 
 
 @dataclass(frozen=True)
@@ -104,24 +103,7 @@ def _read_text(source: Any, issues: Collector) -> str | None:
     return decoded.text
 
 
-def _norm(name: str) -> str:
-    return str(name).strip().strip("\ufeff").strip('"').strip().lower()
-
-
-def _detect_delimiter(lines: list[str], wanted: Sequence[str]) -> str:
-    """Pick the delimiter whose split of an early line holds the wanted columns, else sniff."""
-    wanted_n = [_norm(w) for w in wanted]
-    for line in lines[:30]:
-        for delim in DELIMITERS:
-            cells = [_norm(c) for c in line.split(delim)]
-            if all(w in cells for w in wanted_n):
-                return delim
-    sample = "\n".join(lines[:50])
-    try:
-        return csv.Sniffer().sniff(sample, delimiters="".join(DELIMITERS)).delimiter
-    except csv.Error:
-        counts = {d: sum(line.count(d) for line in lines[:50]) for d in DELIMITERS}
-        return max(counts, key=lambda d: counts[d]) if max(counts.values()) > 0 else ","
+_norm = tables.norm_name
 
 
 def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> RawColumns | None:
@@ -133,7 +115,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
             "error", "The history file is empty", fix="Choose a file with a header and data rows"
         )
         return None
-    delim = _detect_delimiter(lines, wanted)
+    delim = tables.detect_delimiter(lines, wanted)
     try:
         records = list(csv.reader(io.StringIO(text, newline=""), delimiter=delim))
     except csv.Error as exc:
@@ -144,12 +126,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
         )
         return None
     wanted_n = [_norm(w) for w in wanted]
-    header_at = None
-    for i, rec in enumerate(records[:30]):
-        cells = [_norm(c) for c in rec]
-        if all(w in cells for w in wanted_n):
-            header_at = i
-            break
+    header_at = tables.find_header(records, wanted)
     if header_at is None:
         first = next((rec for rec in records if any(c.strip() for c in rec)), [])
         found = quote_all(c.strip() for c in first)

@@ -6,6 +6,7 @@ Temperatures in °F appear only here, at the edge (``temp_unit="F"``, converted 
 
 from __future__ import annotations
 
+import csv
 import io
 from pathlib import Path
 from typing import Any
@@ -13,10 +14,15 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .. import files, units
-from ..errors import ScenarioError, quote, quote_all
+from .. import files, tables, units
+from ..errors import ScenarioError, clip, quote, quote_all
+from ..history import numbers as layout
 from .core import Scenario, make_scenario
-from .values import MAX_DAYS, iso, not_a_number, number, parse_date
+from .values import MAX_DAYS, iso, not_a_number, parse_date
+
+#: Most of a scenario file that is read, bytes: ample for the longest scenario (one row per day)
+#: with a few extra columns; a larger file is refused without reading the rest (our choice).
+HEAD_BYTES = 2 * 1024 * 1024
 
 
 def read_scenario_csv(
@@ -34,6 +40,10 @@ def read_scenario_csv(
 
     The file has one row per day: a date column, a temperature column (daily maximum, in
     ``temp_unit``) and optionally a day-type column, where a blank cell means "from the calendar".
+    The delimiter (comma, semicolon, tab or pipe) and the header row are found as for histories
+    (:mod:`loadcore.tables`), and so is the temperatures' decimal mark
+    (:mod:`loadcore.history.numbers`); notes above the header are skipped. Reading stops at the first row
+    past the day limit, so a long file is refused without being parsed whole.
 
     Parameters
     ----------
@@ -62,53 +72,105 @@ def read_scenario_csv(
         When a column is missing or a row fails the checks (the row number is named).
     """
     unit = units.parse_unit(temp_unit)
-    read = files.read_text(source, what="scenario file")
-    text, label = read.text, Path(read.label).name if read.label else ""
+    limit = min(int(max_days), MAX_DAYS)
+    read = files.read_head(source, what="scenario file", n_bytes=HEAD_BYTES)
+    label = Path(read.label).name if read.label else ""
     where_file = f"file {label}" if label else "scenario file"
-    try:
-        frame = pd.read_csv(
-            io.StringIO(text), dtype=str, keep_default_na=False, skipinitialspace=True
-        )
-    except (pd.errors.ParserError, pd.errors.EmptyDataError, ValueError) as exc:
-        raise ScenarioError(
-            f"The scenario file cannot be read as CSV: {str(exc).splitlines()[0] if str(exc) else exc}",
-            where=where_file,
-            fix="Save it as comma-separated text with a header row",
-        ) from None
-    columns = {str(c).strip().lower(): c for c in frame.columns}
+    header, rows = _records(read, (date_col, temp_col), limit, where_file)
+    columns = {tables.norm_name(c): i for i, c in reversed(list(enumerate(header)))}
 
-    def find(col: str, required: bool) -> str | None:
-        key = str(col).strip().lower()
+    def find(col: str, required: bool) -> int | None:
+        key = tables.norm_name(col)
         if key in columns:
             return columns[key]
         if required:
-            found = quote_all(str(c) for c in frame.columns)
             raise ScenarioError(
-                f"The scenario file has no {quote(col)} column (columns found: {found})",
+                f"The scenario file has no {quote(col)} column (columns found: "
+                f"{quote_all(c.strip() for c in header)})",
                 where=where_file,
                 fix=f"Name the column {quote(col)} or say which column to use",
             )
         return None
 
-    dcol = find(date_col, True)
-    tcol = find(temp_col, True)
-    ycol = find(day_type_col, False)
-    if frame.empty:
+    dcol, tcol, ycol = find(date_col, True), find(temp_col, True), find(day_type_col, False)
+    if not rows:
         raise ScenarioError(
             "The scenario file has no rows", where=where_file, fix="Add one row per day"
         )
-    dates = []
-    temps: list[Any] = []
-    for row, (d, t) in enumerate(zip(frame[dcol], frame[tcol], strict=True), start=1):
-        dates.append(parse_date(str(d).strip(), f"{where_file}, row {row}, column {dcol}"))
-        value = number(t)
-        if value is None:
-            raise not_a_number(t, f"{where_file}, row {row}, date {iso(dates[-1])}")
-        temps.append(units.from_unit(value, unit))
-    types = list(frame[ycol]) if ycol is not None else None
+    for row, record in enumerate(rows, start=1):
+        if len(record) <= max(dcol, tcol):
+            raise ScenarioError(
+                f"This row has {len(record)} field(s) but the header has {len(header)}",
+                where=f"{where_file}, row {row}",
+                fix="Give every row a date and a temperature",
+            )
+    dates = [
+        parse_date(r[dcol].strip(), f"{where_file}, row {i}, column {header[dcol].strip()}")
+        for i, r in enumerate(rows, start=1)
+    ]
+    cells = pd.Series([layout.clean(r[tcol].strip()) for r in rows], dtype=object)
+    decision = layout.decide(layout.evidence(cells), None, "temperature", None)
+    if decision.problem:
+        raise ScenarioError(decision.problem, where=where_file, fix=decision.fix)
+    values = layout.to_numbers(cells, decision.decimal)
+    temps = []
+    for i, (value, record) in enumerate(zip(values, rows, strict=True)):
+        if not np.isfinite(value):
+            raise not_a_number(record[tcol], f"{where_file}, row {i + 1}, date {iso(dates[i])}")
+        temps.append(units.from_unit(float(value), unit))
+    types = [r[ycol] if ycol is not None and ycol < len(r) else "" for r in rows]
     path = pd.Series(temps, index=pd.DatetimeIndex(dates), dtype=float)
     scenario_name = name or (Path(label).stem if label else "") or "scenario"
-    return make_scenario(scenario_name, path, types, model_end=model_end, max_days=max_days)
+    day_types = types if ycol is not None else None
+    return make_scenario(scenario_name, path, day_types, model_end=model_end, max_days=max_days)
+
+
+def _records(
+    read: files.TextFile, wanted: tuple[str, str], limit: int, where_file: str
+) -> tuple[list[str], list[list[str]]]:
+    """The header and the data rows (blank rows left out), read only as far as the day limit:
+    a row past ``limit`` stops the reading with an error, so a huge file is never parsed whole."""
+    lines = read.text[: 64 * 1024].splitlines()
+    delim = tables.detect_delimiter(lines, wanted)
+    reader = csv.reader(io.StringIO(read.text, newline=""), delimiter=delim, skipinitialspace=True)
+    head: list[list[str]] = []
+    try:
+        for record in reader:
+            head.append(record)
+            if len(head) >= tables.HEADER_SEARCH_LINES or tables.find_header([record], wanted) == 0:
+                break
+        at = tables.find_header(head, wanted)
+        header = head[at] if at is not None else next((r for r in head if any(r)), [])
+        rows: list[list[str]] = [] if at is not None else [r for r in head[1:] if any(r)]
+        if at is not None:
+            for record in reader:
+                if not "".join(record).strip():
+                    continue
+                rows.append(record)
+                if len(rows) > limit:
+                    raise ScenarioError(
+                        f"The scenario file has more than {limit} days (rows)",
+                        where=where_file,
+                        fix=f"Shorten it to at most {limit} days or split it",
+                    )
+    except csv.Error as exc:
+        raise ScenarioError(
+            f"The scenario file cannot be read as a table ({clip(exc)})",
+            where=where_file,
+            fix="Save it as comma-separated text with a header row",
+        ) from None
+    if not read.complete:
+        raise ScenarioError(
+            f"The scenario file is larger than {HEAD_BYTES // (1024 * 1024)} MB, far more than "
+            f"{limit} days need",
+            where=where_file,
+            fix="Keep only the date, temperature and day-type columns, one row per day",
+        )
+    if not header or not "".join(header).strip():
+        raise ScenarioError(
+            "The scenario file is empty", where=where_file, fix="Add a header and one row per day"
+        )
+    return header, rows
 
 
 def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
