@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -14,7 +15,7 @@ from loadcore.cli.common import (
     unit_arg,
     write_output,
 )
-from loadcore.errors import InputError
+from loadcore.errors import InputError, clip, quote
 
 
 def _library_path(args: argparse.Namespace) -> Path:
@@ -23,10 +24,10 @@ def _library_path(args: argparse.Namespace) -> Path:
     return Path(args.db).expanduser() if args.db is not None else default_library_path()
 
 
-def _library(args: argparse.Namespace):
+def _library(args: argparse.Namespace, read_only: bool = False):
     from loadcore.library import ScenarioLibrary
 
-    return ScenarioLibrary(_library_path(args))
+    return ScenarioLibrary(_library_path(args), read_only=read_only)
 
 
 def run_save(args: argparse.Namespace) -> int:
@@ -62,7 +63,17 @@ def run_save(args: argparse.Namespace) -> int:
 
 
 def run_list(args: argparse.Namespace) -> int:
-    items = _library(args).list(args.search)
+    if not _library_path(args).exists():
+        say("The library holds no saved scenarios.")
+        return 0
+    listing = _library(args, read_only=True).scan(args.search)
+    items = listing.items
+    for row in listing.damaged:
+        print(
+            f"warning: the saved scenario {quote(row.name)} is damaged and was left out "
+            f"({clip(row.reason)})",
+            file=sys.stderr,
+        )
     if args.json:
         say(plainjson.dumps([item.to_dict() for item in items], indent=2, ensure_ascii=False))
         return 0
@@ -90,7 +101,7 @@ def run_export(args: argparse.Namespace) -> int:
             fix="End the file name with .csv or .html",
         )
     require_output(args.out, _library_path(args))
-    library = _library(args)
+    library = _library(args, read_only=True)
     saved = [library.get(name) for name in args.names]
     forecasts = [s.to_forecast() for s in saved]
     if suffix == ".csv":

@@ -11,6 +11,8 @@
 
 from loadcore.library.entries import (
     HISTORY_TAIL_DAYS,
+    DamagedRow,
+    LibraryListing,
     SavedScenario,
     ScenarioEntry,
     ScenarioListing,
@@ -26,6 +28,8 @@ __all__ = [
     "APPLICATION_ID",
     "ENV_VAR",
     "HISTORY_TAIL_DAYS",
+    "DamagedRow",
+    "LibraryListing",
     "MIGRATIONS",
     "SCHEMA_VERSION",
     "Migration",

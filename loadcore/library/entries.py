@@ -98,6 +98,22 @@ class ScenarioListing:
         return {f.name: getattr(self, f.name) for f in fields(self)}
 
 
+@dataclass(frozen=True)
+class DamagedRow:
+    """A stored row too damaged to list: its name (or row number) and what is wrong."""
+
+    name: str
+    reason: str
+
+
+@dataclass(frozen=True)
+class LibraryListing:
+    """The library's list: the readable rows, and the damaged ones that were skipped."""
+
+    items: tuple[ScenarioListing, ...]
+    damaged: tuple[DamagedRow, ...] = ()
+
+
 @dataclass(frozen=True, eq=False)
 class SavedScenario:
     """A scenario as stored in the library, at one version.

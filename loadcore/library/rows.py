@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import unicodedata
 from collections.abc import Mapping
-from datetime import UTC, datetime
+from datetime import UTC, date, datetime
 from typing import Any
 
 import numpy as np
@@ -18,7 +18,12 @@ import pandas as pd
 
 from loadcore import plainjson
 from loadcore.errors import InputError, LoadcoreError, clip, quote
-from loadcore.library.entries import SavedScenario, ScenarioEntry, settings_to_dict
+from loadcore.library.entries import (
+    SavedScenario,
+    ScenarioEntry,
+    ScenarioListing,
+    settings_to_dict,
+)
 
 MAX_NAME_CHARS = 120
 MAX_NOTE_CHARS = 20_000
@@ -230,6 +235,71 @@ def entry_content(entry: ScenarioEntry, where: str) -> dict[str, Any]:
     }
 
 
+def _iso_day(value: Any, what: str) -> str:
+    if not isinstance(value, str):
+        raise InputError(f"its {what} is not text")
+    try:
+        return date.fromisoformat(value).isoformat()
+    except ValueError:
+        raise InputError(f"its {what} {quote(value)} is not a date") from None
+
+
+def _whole(value: Any, what: str) -> int:
+    if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+        raise InputError(f"its {what} {quote(value)} is not a whole number from 1")
+    return value
+
+
+def listing_from_row(row: tuple) -> ScenarioListing:
+    """One line of the list from a row of :data:`loadcore.library.schema.LIST_COLUMNS`.
+
+    Raises
+    ------
+    InputError
+        Saying what is damaged (the caller skips the row and reports it).
+    """
+    name, note, author, created, changed, version, first, last, days, fingerprint = row
+    if not isinstance(name, str) or not name.strip():
+        raise InputError("its name is missing or not text")
+    for what, value in (("note", note), ("author", author), ("model fingerprint", fingerprint)):
+        if value is not None and not isinstance(value, str):
+            raise InputError(f"its {what} is not text")
+    for what, value in (("creation time", created), ("change time", changed)):
+        if not isinstance(value, str):
+            raise InputError(f"its {what} is not text")
+    return ScenarioListing(
+        name=name,
+        note=note or "",
+        author=author or "",
+        created_utc=created,
+        changed_utc=changed,
+        version=_whole(version, "version"),
+        first_date=_iso_day(first, "first date"),
+        last_date=_iso_day(last, "last date"),
+        days=_whole(days, "number of days"),
+        model_fingerprint=fingerprint or "",
+    )
+
+
+def _check_saved(saved: SavedScenario) -> None:
+    """Read every stored piece a later call reads, so damage shows here, not in an export."""
+    if not isinstance(saved.context, dict) or not isinstance(saved.definition, dict):
+        raise TypeError("the stored context or definition is not a set of named values")
+    if not isinstance(saved.model_settings, dict):
+        raise TypeError("the stored model settings are not a set of named values")
+    frame = saved.forecast
+    for column in ("date", "mean", "median"):
+        if column not in frame.columns:
+            raise KeyError(f"the stored forecast has no {column} column")
+    for column in frame.columns:
+        if column not in ("date", "day_type", "scenario") and frame[column].dtype == object:
+            pd.to_numeric(frame[column].dropna(), errors="raise")
+    tail = saved.history_tail()
+    if len(tail) and tail.index.hasnans:
+        raise ValueError("a date of the kept history is missing")
+    saved.to_forecast()
+
+
 def saved_from_row(row: tuple, where: str) -> SavedScenario:
     """A :class:`SavedScenario` from a row of :data:`loadcore.library.schema.COLUMNS`.
 
@@ -257,7 +327,7 @@ def saved_from_row(row: tuple, where: str) -> SavedScenario:
     try:
         if not all(isinstance(x, str) for x in (name, definition, settings, forecast, context)):
             raise TypeError("a stored field is missing")
-        return SavedScenario(
+        saved = SavedScenario(
             name=name,
             note=str(note or ""),
             author=str(author or ""),
@@ -270,7 +340,9 @@ def saved_from_row(row: tuple, where: str) -> SavedScenario:
             forecast=frame_from_json(forecast),
             context=plainjson.loads(context, what="stored context"),
         )
-    except (ValueError, TypeError, AttributeError, KeyError, LoadcoreError) as exc:
+        _check_saved(saved)
+        return saved
+    except (ValueError, TypeError, AttributeError, KeyError, OverflowError, LoadcoreError) as exc:
         raise InputError(
             f"The saved scenario {quote(name)} is damaged and cannot be read: {clip(exc)}",
             where=where,

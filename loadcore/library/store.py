@@ -23,9 +23,15 @@ import unicodedata
 from pathlib import Path
 from typing import Any
 
-from loadcore.errors import InputError, clip, quote
+from loadcore.errors import InputError, quote
 from loadcore.library import rows, schema
-from loadcore.library.entries import SavedScenario, ScenarioEntry, ScenarioListing
+from loadcore.library.entries import (
+    DamagedRow,
+    LibraryListing,
+    SavedScenario,
+    ScenarioEntry,
+    ScenarioListing,
+)
 
 log = logging.getLogger(__name__)
 
@@ -48,6 +54,10 @@ class ScenarioLibrary:
     ----------
     path : str or Path, optional
         The library file; created (with its folder) if missing. Default: :func:`default_library_path`.
+    read_only : bool
+        Open for reading only: nothing in the file or its folder is changed (no migration, no
+        journal files), so a library on a read-only mount can be listed and exported; saves and
+        edits are refused. The file must exist.
 
     Raises
     ------
@@ -61,14 +71,19 @@ class ScenarioLibrary:
     threads of an app, and several processes may use the same file at once.
     """
 
-    def __init__(self, path: str | os.PathLike[str] | None = None):
+    def __init__(self, path: str | os.PathLike[str] | None = None, *, read_only: bool = False):
         self.path = Path(path).expanduser() if path is not None else default_library_path()
-        if self.path.is_dir():
-            raise InputError(
-                "The scenario library path is a folder",
-                where=f"library {self.path}",
-                fix="Give a file name such as scenarios.sqlite",
-            )
+        self.read_only = bool(read_only)
+        schema.check_regular(self.path)
+        if self.read_only:
+            if not self.path.exists():
+                raise InputError(
+                    "There is no scenario library at this path",
+                    where=f"library {self.path}",
+                    fix="Save a scenario first, or give the library's path",
+                )
+            schema.check_readable(self.path)
+            return
         try:
             self.path.parent.mkdir(parents=True, exist_ok=True)
         except OSError as exc:
@@ -86,9 +101,15 @@ class ScenarioLibrary:
         return schema.where(self.path)
 
     def _read(self):
-        return schema.reading(self.path)
+        return schema.reading(self.path, self.read_only)
 
     def _write(self):
+        if self.read_only:
+            raise InputError(
+                "The scenario library was opened for reading only",
+                where=self._where,
+                fix="Open it without read_only to save or change scenarios",
+            )
         return schema.writing(self.path)
 
     @property
@@ -135,47 +156,43 @@ class ScenarioLibrary:
                 raise self._not_found(key, conn)
         return self._saved(row)
 
-    def list(self, search: str | None = None) -> list[ScenarioListing]:
-        """Saved scenarios, by name; ``search`` keeps those whose name, note or author contains it.
+    def scan(self, search: str | None = None) -> LibraryListing:
+        """Saved scenarios by name, and the rows too damaged to list (skipped, with the reason).
 
-        The search ignores case (full Unicode case folding) and surrounding spaces.
+        ``search`` keeps those whose name, note or author contains it, ignoring case (full
+        Unicode case folding) and surrounding spaces.
         """
         with self._read() as conn:
             found = conn.execute(
                 f"SELECT {schema.LIST_COLUMNS} FROM scenarios ORDER BY name COLLATE NOCASE, id"
             ).fetchall()
-        try:
+        listings: list[ScenarioListing] = []
+        damaged: list[DamagedRow] = []
+        for position, r in enumerate(found, start=1):
+            try:
+                listings.append(rows.listing_from_row(r))
+            except InputError as exc:
+                label = r[0] if isinstance(r[0], str) else f"row {position}"
+                damaged.append(DamagedRow(label, exc.problem))
+                log.warning("library %s: row %r skipped: %s", self.path, label, exc.problem)
+        if search is not None and str(search).strip():
+            needle = unicodedata.normalize("NFC", str(search)).strip().casefold()
             listings = [
-                ScenarioListing(
-                    name=str(r[0]),
-                    note=str(r[1] or ""),
-                    author=str(r[2] or ""),
-                    created_utc=str(r[3]),
-                    changed_utc=str(r[4]),
-                    version=int(r[5]),
-                    first_date=str(r[6]),
-                    last_date=str(r[7]),
-                    days=int(r[8]),
-                    model_fingerprint=str(r[9]),
-                )
-                for r in found
+                item
+                for item in listings
+                if needle in item.name.casefold()
+                or needle in item.note.casefold()
+                or needle in item.author.casefold()
             ]
-        except (TypeError, ValueError) as exc:
-            raise InputError(
-                f"The scenario library is damaged and its list cannot be read: {clip(exc)}",
-                where=self._where,
-                fix="Restore the library from a backup",
-            ) from None
-        if search is None or not str(search).strip():
-            return listings
-        needle = unicodedata.normalize("NFC", str(search)).strip().casefold()
-        return [
-            item
-            for item in listings
-            if needle in item.name.casefold()
-            or needle in item.note.casefold()
-            or needle in item.author.casefold()
-        ]
+        return LibraryListing(tuple(listings), tuple(damaged))
+
+    def list(self, search: str | None = None) -> list[ScenarioListing]:
+        """Saved scenarios, by name; ``search`` keeps those whose name, note or author contains it.
+
+        The search ignores case (full Unicode case folding) and surrounding spaces. Rows too
+        damaged to list are left out (see :meth:`scan`, which names them).
+        """
+        return list(self.scan(search).items)
 
     def names(self) -> list[str]:
         """Names of all saved scenarios, sorted."""
