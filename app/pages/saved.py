@@ -74,10 +74,17 @@ with st.expander("Save a scenario from the set", expanded=bool(state.scenarios()
 # --------------------------------------------------------------------------------------------
 st.subheader("In the library")
 search = st.text_input("Search names, notes and authors", value="", key="lib_search")
-ok, listing = display.attempt(lambda: library.list(search or None))
+ok, found = display.attempt(lambda: library.scan(search or None))
 if not ok:
     display.footer()
     st.stop()
+listing = list(found.items)
+for row in found.damaged:
+    st.warning(
+        f"The saved scenario '{md(row.name)}' is damaged and is left out of the list: "
+        f"{md(row.reason)}. Delete it with a library tool or restore the file from a backup.",
+        icon=":material/report:",
+    )
 if not listing:
     st.info("Nothing saved yet." if not search else "No saved scenario matches the search.")
     display.footer()
