@@ -30,7 +30,7 @@ SMALL_SEARCH = (
 
 def simulated_frame(days: int = 400, start: str = "2029-01-01", seed: int = 3) -> pd.DataFrame:
     """A daily table (``date``, ``demand`` MW, ``temperature`` °C) from a known truth: log
-    demand = log 1500 + 0.004 (T - 18)^2 + weekday effects + AR(1) errors (phi 0.6, sd 2 %)."""
+    demand = log 1500 + 0.0012 (T - 18)^2 + weekday effects + AR(1) errors (phi 0.6, sd 2 %)."""
     rng = np.random.default_rng(seed)
     dates = pd.date_range(start, periods=days, freq="D")
     doy = dates.day_of_year.to_numpy()
@@ -40,7 +40,7 @@ def simulated_frame(days: int = 400, start: str = "2029-01-01", seed: int = 3) -
     shocks = rng.normal(0, 0.02, days)
     for i in range(1, days):
         noise[i] = 0.6 * noise[i - 1] + shocks[i]
-    log_demand = np.log(1500) + 0.004 * (temp - 18) ** 2 + weekday + noise
+    log_demand = np.log(1500) + 0.0012 * (temp - 18) ** 2 + weekday + noise
     return pd.DataFrame(
         {"date": dates, "demand": np.round(np.exp(log_demand), 1), "temperature": temp.round(1)}
     )

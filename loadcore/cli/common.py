@@ -184,6 +184,13 @@ def history_options() -> argparse.ArgumentParser:
         default=None,
         help="decimal mark of the file's numbers (decided from the values when not given)",
     )
+    group.add_argument(
+        "--drop-outliers",
+        action="store_true",
+        default=None,
+        help="treat days whose demand departs far from the days around them and from their "
+        "weekday pattern (likely data errors) as missing; they are reported either way",
+    )
     return parent
 
 
@@ -201,6 +208,7 @@ def history_settings(args: argparse.Namespace):
         "subdaily_demand": args.subdaily,
         "date_format": args.date_format,
         "decimal": args.decimal,
+        "drop_outliers": args.drop_outliers,
     }
     return HistorySettings(**{k: v for k, v in given.items() if v is not None})
 

@@ -20,6 +20,7 @@ from loadcore import units
 from loadcore.errors import HistoryError, clip
 from loadcore.history.daily import complete_daily, to_daily
 from loadcore.history.hours import within_day
+from loadcore.history.outliers import find_outliers
 from loadcore.history.parsing import parse_dates, parse_numbers
 from loadcore.history.reading import RawColumns, read_raw, source_label
 from loadcore.history.report import Collector, HistoryReport, Issue, iso_date
@@ -229,7 +230,50 @@ def _analyse(source: Any, settings: HistorySettings) -> tuple[HistoryReport, pd.
     if issues.has_errors:
         return issues.report(), None
     frame = complete_daily(daily, settings, raw.names, issues)
+    if frame is not None:
+        frame = _flag_outliers(frame, settings, raw.names[1], issues)
     return issues.report(), frame
+
+
+def _amount(value: float) -> str:
+    """A demand as a planner reads it: whole units with thousands separators, else 4 digits."""
+    return f"{value:,.0f}" if abs(value) >= 1000 else f"{value:.4g}"
+
+
+def _flag_outliers(
+    frame: pd.DataFrame, settings: HistorySettings, demand_name: str, issues: Collector
+) -> pd.DataFrame:
+    """Report the days whose demand looks like a data error (:mod:`~loadcore.history.outliers`)
+    with their date and value; with ``drop_outliers`` they become missing demand."""
+    found = find_outliers(frame["demand"])
+    unit = settings.demand_unit
+    dropped = settings.drop_outliers
+
+    def one(i: int) -> tuple[str, dict[str, Any]]:
+        o = found[i]
+        times = f"{o.ratio:,.3g} times" if o.ratio >= 1 else f"1/{1 / o.ratio:,.3g} of"
+        tail = "; it was treated as missing" if dropped else "; it may be a data error"
+        return (
+            f"The demand {_amount(o.demand)} {unit} departs from the days around it and from the same "
+            f"weekday in nearby weeks ({times} the usual {o.typical:,.0f} {unit}){tail}",
+            {"date": iso_date(o.date)},
+        )
+
+    issues.many(
+        "warning",
+        one,
+        len(found),
+        kind="outlying demand values",
+        fix="Nothing more to do; the day counts as missing"
+        if dropped
+        else "Check the value in the source; to leave such days out of the fit, use "
+        "--drop-outliers (or the History page's outlier box)",
+        column=demand_name,
+    )
+    if dropped and found:
+        frame = frame.copy()
+        frame.loc[[o.date for o in found], "demand"] = np.nan
+    return frame
 
 
 def _analyse_safely(
