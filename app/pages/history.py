@@ -139,6 +139,14 @@ with st.expander("Upload a history file", expanded=False):
         help="For a daily file with the day's minimum beside its maximum; hourly files give "
         "it without this.",
     )
+    drop_outliers = st.checkbox(
+        "Treat outlying demand days as missing",
+        value=False,
+        key="history_drop_outliers",
+        help="Days whose demand departs far from the days around them and from the same "
+        "weekday in nearby weeks (likely data errors) are always listed in the checks; tick "
+        "this to leave them out of the fit.",
+    )
     rejected = False
     if st.button("Check and use this file", type="primary", disabled=not columns):
         data = upload.getvalue()
@@ -154,6 +162,7 @@ with st.expander("Upload a history file", expanded=False):
                 date_format=date_format.strip() or None,
                 hour_col=hour_col.strip() or None,
                 temp_min_col=temp_min_col.strip() or None,
+                drop_outliers=drop_outliers,
             )
             new = _read_upload(data, hashlib.sha256(data).hexdigest(), settings)
         except LoadcoreError as exc:
