@@ -26,6 +26,7 @@ from ..calendar import BASE_TYPE, day_types
 from ..errors import ModelError
 from ..history import History
 from .fitted import FittedModel
+from .identify import check_temperature_terms
 from .likelihood import identified_columns
 from .orders import DifferencingDecision, Orders, choose_differencing
 from .search import candidate_table, search_orders
@@ -87,6 +88,9 @@ def _regression(history: History, settings: FitSettings) -> tuple[_Design, np.nd
         base_type=base,
         origin=dates[0],
         intercept=True,
+    )
+    check_temperature_terms(
+        X, frame["temperature_c"].to_numpy(float), np.isfinite(y), settings.terms
     )
     return _Design(y, X, levels, base, dates[0]), _ols(y, X.to_numpy())
 
