@@ -17,9 +17,8 @@ from typing import Any
 
 import pandas as pd
 
-from loadcore import files
+from loadcore import files, tables
 from loadcore.history.parsing import _READABLE, DATE_LAYOUTS
-from loadcore.history.reading import DELIMITERS, _detect_delimiter, _norm
 
 # Lines looked at for the preview (enough for a header and a sample of values).
 PREVIEW_LINES = 200
@@ -74,7 +73,7 @@ class FilePreview:
 
 
 def _guess(columns: list[str], setting: str, taken: set[str]) -> str | None:
-    normed = {c: re.sub(r"[^a-z0-9]+", "_", _norm(c)).strip("_") for c in columns}
+    normed = {c: re.sub(r"[^a-z0-9]+", "_", tables.norm_name(c)).strip("_") for c in columns}
     for hint in _NAME_HINTS[setting]:
         for column, name in normed.items():
             if column in taken:
@@ -103,7 +102,7 @@ def _date_layouts(values: pd.Series) -> tuple[str, ...]:
 
 def _unit_hint(name: str | None, values: pd.Series | None) -> tuple[str | None, str]:
     if name:
-        words = set(re.split(r"[^a-z]+", _norm(name)))
+        words = set(re.split(r"[^a-z]+", tables.norm_name(name)))
         if words & {"f", "degf", "fahrenheit", "degreesf"}:
             return "F", f"the column name {name!r} says °F"
         if words & {"c", "degc", "celsius", "degreesc"}:
@@ -138,7 +137,7 @@ def preview_history_file(source: Any) -> FilePreview:
     data, _ = files.read_bytes(source, what="history file")
     text = files.decode(data, what="history file", label="history file").text
     lines = text.splitlines()[:PREVIEW_LINES]
-    delimiter = _detect_delimiter(lines, ("\0",))  # no names known yet: sniff the lines
+    delimiter = tables.detect_delimiter(lines, ("\0",))  # no names known yet: sniff the lines
     records = [r for r in csv.reader(io.StringIO("\n".join(lines)), delimiter=delimiter)]
     records = [r for r in records if any(c.strip() for c in r)]
     if not records:
@@ -169,7 +168,7 @@ def preview_history_file(source: Any) -> FilePreview:
     unit, reason = _unit_hint(guesses["temp_col"], values(guesses["temp_col"]))
     return FilePreview(
         columns=tuple(columns),
-        delimiter=delimiter if delimiter in DELIMITERS else ",",
+        delimiter=delimiter if delimiter in tables.DELIMITERS else ",",
         guesses=guesses,
         date_layouts=layouts,
         unit_hint=unit,
