@@ -40,7 +40,7 @@ def test_missing_column_names_the_columns_found():
     assert not report.ok
     message = report.errors[0].message
     assert "'load'" in message and "'date', 'demand', 'temperature'" in message
-    assert "demand_col" in report.errors[0].fix
+    assert "--demand-col" in report.errors[0].fix and "Demand column" in report.errors[0].fix
     with pytest.raises(HistoryError) as err:
         read_history(clean_bytes(), HistorySettings(demand_col="load"))
     assert "'load'" in str(err.value)

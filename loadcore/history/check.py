@@ -128,8 +128,8 @@ def _check_minimum(
             ),
             len(above),
             kind="minimum temperatures above the temperature",
-            fix="Check that the minimum-temperature setting names the column of daily minima "
-            "and the temperature setting the column of maxima (or means)",
+            fix="Check that the Minimum temperature column (--temp-min-col) holds the daily "
+            "minima and the Temperature column (--temp-col) the maxima (or means)",
             column=raw.temp_min_name,
             rows=[int(raw.rows[p]) for p in above],
         )
@@ -151,7 +151,7 @@ def _place_in_day(
             "The date column already carries a time of day, and an hour column is named too",
             row=int(raw.rows[np.flatnonzero(timed)[0]]),
             column=raw.names[0],
-            fix="Leave the hour column setting empty when the dates carry their times",
+            fix="Leave the Hour column empty (no --hour-col) when the dates carry their times",
         )
         return stamps, dates
     place = within_day(raw.hour, raw.rows, dates, raw.hour_name, issues)

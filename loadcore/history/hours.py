@@ -24,6 +24,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore.history.report import Collector, iso_date
+from loadcore.history.settings import name_the_column
 
 _NUMBER = r"^\s*(\d{1,3})(?:\.0*)?\s*$"
 _TIME = r"^\s*(\d{1,2}):(\d{2})(?::(\d{2}))?\s*$"
@@ -102,7 +103,8 @@ def _numbers(
             f"The hour column holds numbers up to {top}; hours run 1-24 or 0-23 (half hours "
             "1-48 or 0-47)",
             column=column,
-            fix="Check that the hour setting names the column of hour numbers",
+            fix="Check that the column of hour numbers is the one named: "
+            + name_the_column("hour_col"),
         )
         return None
     step = _DAY_NS // slots

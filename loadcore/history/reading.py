@@ -23,7 +23,7 @@ import pandas as pd
 from loadcore import files, tables
 from loadcore.errors import InputError, clip, quote, quote_all
 from loadcore.history.report import Collector
-from loadcore.history.settings import HistorySettings
+from loadcore.history.settings import HistorySettings, name_the_column
 
 DELIMITERS = tables.DELIMITERS
 
@@ -139,7 +139,7 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
                 "error",
                 f"The column {quote(name)} is not in the file; the columns found are {found}",
                 column=name,
-                fix=f"Set the {setting_of[name]} setting to the name of that column in the file",
+                fix="Find the column among those found and " + name_the_column(setting_of[name]),
             )
         return None
     if header_at > 0:
@@ -214,7 +214,8 @@ def _raw_from_frame(
                 "error",
                 f"The column {quote(name)} is not in the table; the columns found are {found}",
                 column=name,
-                fix="Rename the column or change the column-name setting to match",
+                fix="Rename the column, or name it in the history settings (date_col, demand_col, "
+                "temp_col)",
             )
         return None
     cols = [lookup[_norm(w)] for w in wanted]

@@ -18,6 +18,24 @@ TempKind = Literal["max", "mean"]
 SubdailyDemand = Literal["peak", "total"]
 
 
+#: Where the planner names each column: the app's field and the command-line option (the one
+#: wording of a fix that asks for a column; messages never show the setting's own name).
+COLUMN_FIELDS: dict[str, tuple[str, str]] = {
+    "date_col": ("Date column", "--date-col"),
+    "demand_col": ("Demand column", "--demand-col"),
+    "temp_col": ("Temperature column", "--temp-col"),
+    "hour_col": ("Hour column", "--hour-col"),
+    "temp_min_col": ("Minimum temperature column", "--temp-min-col"),
+}
+
+
+def name_the_column(setting: str) -> str:
+    """How to name a column, for a message's fix: "choose the app's Date column, or give
+    --date-col NAME on the command line"."""
+    field, option = COLUMN_FIELDS[setting]
+    return f"choose it as the app's {field}, or give {option} NAME on the command line"
+
+
 @dataclass(frozen=True)
 class HistorySettings:
     """How to read a history file.

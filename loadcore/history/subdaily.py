@@ -15,7 +15,7 @@ import numpy as np
 import pandas as pd
 
 from loadcore.history.report import Collector, iso_date
-from loadcore.history.settings import HistorySettings
+from loadcore.history.settings import HistorySettings, name_the_column
 
 #: Repeats per date that mark a sub-daily file (hours, half hours, ...), and the share of dates
 #: that must have the typical count (daylight-saving days have one hour more or fewer).
@@ -46,8 +46,8 @@ def subdaily_without_time(
         f"Every date appears {typical} times and the dates carry no time of day: the file "
         "looks like one row per reading with the hour in a column of its own",
         column=date_name,
-        fix=f"Name the column that holds the hour or time of day{hint}: --hour-col NAME on the "
-        "command line, the hour_col setting, or the app's hour column field",
+        fix=f"Name the column that holds the hour or time of day{hint}: "
+        + name_the_column("hour_col"),
     )
 
 
