@@ -514,3 +514,24 @@ def test_forecast_day_type_column_overrides_the_calendar(fitted, tmp_path, capsy
     expected = calendar[:2] + ["holiday"] + calendar[3:]
     assert table["day_type"].tolist() == expected
     assert not table["out_of_range"].any()
+
+
+def test_an_error_after_a_progress_bar_starts_on_its_own_line(
+    demo_model, tmp_path, capsys, monkeypatch
+):
+    """Issue 11, item 20: the ensemble's error printed on the progress bar's line."""
+    import loadcore.weather as weather
+    from loadcore.errors import ModelError
+
+    def failing(*args, progress=None, **kwargs):
+        progress(3, 10, "")
+        raise ModelError("No past year has weather for these days", fix="Use a longer history")
+
+    monkeypatch.setattr(weather, "ensemble_forecast", failing)
+    model_path = demo_model.save(tmp_path / "m.json")
+    code = main(["ensemble", str(model_path), "--out", str(tmp_path / "e.csv")])
+    err = capsys.readouterr().err
+    assert code == 1
+    bar_line, *rest = err.split("\n")
+    assert "3/10" in bar_line and "No past year" not in bar_line
+    assert any(line.startswith("error: No past year") for line in rest)

@@ -248,3 +248,13 @@ def test_damaged_version_2_files_give_one_clear_error(demo_model):
         data[key] = value
         with pytest.raises(ModelError, match=match):
             load_model(json.dumps(data))
+
+
+def test_a_model_file_with_a_byte_order_mark_loads(demo_model, tmp_path):
+    """Issue 11, item 19: a model file saved by an editor with a UTF-8 byte-order mark was
+    refused as 'JSONDecodeError'."""
+    path = tmp_path / "bom.json"
+    path.write_bytes("\ufeff".encode() + demo_model.to_json().encode())
+    again = load_model(path)
+    assert again.orders == demo_model.orders
+    assert load_model(path.read_bytes()).orders == demo_model.orders
