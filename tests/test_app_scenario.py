@@ -89,13 +89,55 @@ def test_a_blank_temperature_gives_a_message_and_leaves_the_set_alone():
     assert at.session_state["scenarios"]["Kept"] == kept
 
 
-def test_a_horizon_past_90_days_is_refused_inline():
+def test_the_days_input_stops_at_the_loadcore_limit():
+    """The length input's bounds are loadcore's one length limit (scenario.MAX_DAYS), so the
+    builder never offers a length that loadcore refuses, and the longest one is accepted."""
+    from loadcore.scenario import MAX_DAYS
+
     at = _scenario_page()
-    at.number_input(key="scn_days").set_value(120)
+    days = at.number_input(key="scn_days")
+    assert (days.proto.min, days.proto.max) == (1, MAX_DAYS)
+    assert str(MAX_DAYS) in days.label
+    days.set_value(MAX_DAYS)
     at.run()
     assert_no_exception(at)
-    errors = texts(at, "error")
-    assert errors and "120 days" in errors[0] and "90" in errors[0]
+    assert not texts(at, "error")
+    assert len(at.data_editor[0].value) == MAX_DAYS
+
+
+def test_heat_wave_days_at_the_peak_are_named_apart_from_the_ramps():
+    """Issue 10, defect 10: "Days" used to include the ramps, so 6 days gave 2 at the peak.
+    Now 6 days at the peak with 2 ramp days give 6 days at the peak inside a 10-day event."""
+    model = demo_model()
+    settings = {**heat_wave_settings(model), "at_peak": 6, "ramp": 2, "start_day": 2}
+    at = _scenario_page()
+    labels = [n.label for n in at.number_input]
+    assert "Days at the peak" in labels and "Ramp days at each end" in labels
+    assert "Days at the lowest" in labels  # the cold snap's fields read the same way
+    build_heat_wave_in_app(at, settings)
+    assert_no_exception(at)
+    assert any("2 day(s) building up, 6 day(s) at the peak" in c for c in texts(at, "caption"))
+    [b for b in at.button if b.label == "Add to the set"][0].click()
+    at.run()
+    added = at.session_state["scenarios"]["Heat wave"]
+    peak = round(settings["peak_c"], 1)
+    temps = np.asarray(added.temperature_c)
+    assert int(np.sum(np.isclose(temps, peak))) == 6
+    assert np.flatnonzero(np.isclose(temps, peak)).tolist() == list(range(3, 9))
+    assert added == heat_wave_by_loadcore(model, settings)
+
+
+def test_a_start_day_past_a_shortened_window_is_brought_inside():
+    """The heat wave's start day is bounded by the window's length; shortening the window
+    below it gives a start inside the window, not a failure."""
+    at = _scenario_page()
+    at.number_input(key="scn_hw_day").set_value(12)
+    at.run()
+    at.number_input(key="scn_days").set_value(5)
+    at.run()
+    assert_no_exception(at)
+    start_day = at.number_input(key="scn_hw_day")
+    assert start_day.proto.max == 5 and 1 <= start_day.value <= 5
 
 
 def test_a_scenario_file_with_text_or_unordered_dates_is_refused():

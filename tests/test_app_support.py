@@ -151,7 +151,7 @@ def heat_wave_settings(model) -> dict[str, Any]:
     """Path-tool inputs for a heat wave whose peak is 3 °C above the hottest fitted day."""
     return {
         "peak_c": float(model.temperature_range_c[1]) + 3.0,
-        "length": 6,
+        "at_peak": 2,
         "ramp": 2,
         "start_day": 4,
         "days": 14,
@@ -165,7 +165,7 @@ def build_heat_wave_in_app(at: AppTest, settings: dict[str, Any], name: str = "H
     at.selectbox(key="scn_base").set_value("normal")
     at.checkbox(key="scn_hw_on").set_value(True)
     at.number_input(key="scn_hw_peak").set_value(round(settings["peak_c"], 1))
-    at.number_input(key="scn_hw_len").set_value(settings["length"])
+    at.number_input(key="scn_hw_top").set_value(settings["at_peak"])
     at.number_input(key="scn_hw_ramp").set_value(settings["ramp"])
     at.number_input(key="scn_hw_day").set_value(settings["start_day"])
     at.run()
@@ -180,7 +180,7 @@ def heat_wave_by_loadcore(model, settings: dict[str, Any], name: str = "Heat wav
     path = heat_wave(
         path,
         round(settings["peak_c"], 1),
-        settings["length"],
+        settings["at_peak"] + 2 * settings["ramp"],  # the event lasts ramp + peak + ramp days
         settings["ramp"],
         settings["start_day"] - 1,
     )

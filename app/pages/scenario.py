@@ -46,11 +46,11 @@ name = left.text_input("Scenario name", key=state.NAME_WIDGET, max_chars=80)
 horizon = right.number_input(
     f"Days (1 to {MAX_DAYS})",
     min_value=1,
-    max_value=366,
+    max_value=MAX_DAYS,
     value=14,
     step=1,
     key="scn_days",
-    help=f"Forecasts reach at most {MAX_DAYS} days ahead.",
+    help=f"A scenario covers 1 to {MAX_DAYS} consecutive days.",
 )
 source = st.radio(
     "Start from",
@@ -74,6 +74,46 @@ def _days_ok(days: int) -> bool:
         display.show_error(exc)
         return False
     return True
+
+
+def _event_inputs(
+    prefix: str, days: int, defaults: tuple[int, int, int], off: bool, extreme: str
+) -> tuple[int, int, int]:
+    """A heat wave's or cold snap's days: at the peak (or lowest), ramp days at each end and the
+    window day the first ramp day falls on. The event lasts ramp + at-the-peak + ramp days."""
+    at_top, ramp, first = defaults
+    a, b, c = st.columns(3)
+    top = a.number_input(
+        f"Days at the {extreme}", 1, MAX_DAYS, at_top, key=f"scn_{prefix}_top", disabled=off
+    )
+    ramps = b.number_input(
+        "Ramp days at each end",
+        0,
+        MAX_DAYS,
+        ramp,
+        key=f"scn_{prefix}_ramp",
+        disabled=off,
+        help="Days of build-up before and of easing off after, each; 0 for a sudden change.",
+    )
+    day = c.number_input(
+        f"Starts on day (1 to {days})",
+        1,
+        max(int(days), 1),
+        min(first, max(int(days), 1)),
+        key=f"scn_{prefix}_day",
+        disabled=off,
+        help="The window day of the first ramp day (or of the first day at the "
+        f"{extreme}, without ramps).",
+    )
+    top, ramps, day = int(top), int(ramps), int(day)
+    if not off:
+        last = day + top + 2 * ramps - 1
+        st.caption(
+            f"{ramps} day(s) building up, {top} day(s) at the {extreme}, {ramps} day(s) easing "
+            f"off: window days {day} to {min(last, int(days))}"
+            + (f" (the last {last - int(days)} fall after the window)." if last > days else ".")
+        )
+    return top, ramps, day
 
 
 def _from_tools(days: int) -> pd.Series | None:
@@ -113,19 +153,13 @@ def _from_tools(days: int) -> pd.Series | None:
             peak_c = display.temperature_input(
                 st, "Peak daily high", key="scn_hw_peak", default_c=41.0, disabled=not wave
             )
-            a, b, c = st.columns(3)
-            hw_len = a.number_input("Days", 1, MAX_DAYS, 6, key="scn_hw_len", disabled=not wave)
-            hw_ramp = b.number_input("Ramp days", 0, 30, 2, key="scn_hw_ramp", disabled=not wave)
-            hw_day = c.number_input("Starts on day", 1, 366, 4, key="scn_hw_day", disabled=not wave)
+            hw_top, hw_ramp, hw_day = _event_inputs("hw", days, (2, 2, 4), not wave, "peak")
         with cols[1].container(border=True):
             snap = st.checkbox("Add a cold snap", value=False, key="scn_cs_on")
             trough_c = display.temperature_input(
                 st, "Lowest daily high", key="scn_cs_low", default_c=-8.0, disabled=not snap
             )
-            a, b, c = st.columns(3)
-            cs_len = a.number_input("Days", 1, MAX_DAYS, 5, key="scn_cs_len", disabled=not snap)
-            cs_ramp = b.number_input("Ramp days", 0, 30, 1, key="scn_cs_ramp", disabled=not snap)
-            cs_day = c.number_input("Starts on day", 1, 366, 1, key="scn_cs_day", disabled=not snap)
+            cs_top, cs_ramp, cs_day = _event_inputs("cs", days, (3, 1, 1), not snap, "lowest")
         shift_c = display.temperature_input(
             st,
             "Shift every day by (may be negative)",
@@ -134,9 +168,9 @@ def _from_tools(days: int) -> pd.Series | None:
             difference=True,
         )
         if wave:
-            path = heat_wave(path, peak_c, int(hw_len), int(hw_ramp), int(hw_day) - 1)
+            path = heat_wave(path, peak_c, hw_top + 2 * hw_ramp, hw_ramp, hw_day - 1)
         if snap:
-            path = cold_snap(path, trough_c, int(cs_len), int(cs_ramp), int(cs_day) - 1)
+            path = cold_snap(path, trough_c, cs_top + 2 * cs_ramp, cs_ramp, cs_day - 1)
         if shift_c:
             path = shift_path(path, shift_c)
         if base_kind == "normal" and not (wave or snap or shift_c):
