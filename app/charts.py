@@ -40,15 +40,18 @@ def history_figure(
     *,
     to_unit: Convert = _identity,
     unit: str = "°C",
+    demand_unit: str = "MW",
 ) -> go.Figure:
     """Demand over time coloured by day type, with the temperature beneath on a shared time axis.
 
     Parameters
     ----------
     frame : pd.DataFrame
-        ``History.frame`` (daily index; ``demand`` in MW, ``temperature_c`` in °C).
+        ``History.frame`` (daily index; ``demand`` in ``demand_unit``, ``temperature_c`` in °C).
     day_types : pd.Series
         Day type for each date of ``frame``.
+    demand_unit : str, default "MW"
+        The history's demand unit (``HistorySettings.demand_unit``), for the axis and hover text.
     """
     fig = make_subplots(
         rows=2,
@@ -83,7 +86,11 @@ def history_figure(
                 marker={"color": colour, "size": 4},
                 name=day_type_label(name),
                 legendgroup=name,
-                hovertemplate="%{x|%a %d %b %Y}: %{y:,.0f} MW<extra>" + name + "</extra>",
+                hovertemplate="%{x|%a %d %b %Y}: %{y:,.0f} "
+                + demand_unit
+                + "<extra>"
+                + name
+                + "</extra>",
             ),
             row=1,
             col=1,
@@ -100,7 +107,7 @@ def history_figure(
         row=2,
         col=1,
     )
-    fig.update_yaxes(title_text="demand, MW", row=1, col=1)
+    fig.update_yaxes(title_text=f"demand, {demand_unit}", row=1, col=1)
     fig.update_yaxes(title_text=f"temperature, {unit}", row=2, col=1)
     style_figure(fig, height=560)
     return fig
@@ -115,8 +122,10 @@ def response_figure(
     range_c: tuple[float, float] | None = None,
     to_unit: Convert = _identity,
     unit: str = "°C",
+    demand_unit: str = "MW",
 ) -> go.Figure:
-    """Demand against temperature coloured by day type, with the fitted response and range."""
+    """Demand against temperature coloured by day type, with the fitted response and range
+    (``curve_mw`` and the demand axis in ``demand_unit``, the history's own unit)."""
     fig = go.Figure()
     types = day_types.reindex(frame.index)
     colours = palette.day_type_colours(_ordered_types(types))
@@ -154,7 +163,7 @@ def response_figure(
             )
         )
     fig.update_xaxes(title_text=f"daily maximum temperature, {unit}")
-    fig.update_yaxes(title_text="demand, MW")
+    fig.update_yaxes(title_text=f"demand, {demand_unit}")
     style_figure(fig, height=460)
     fig.update_layout(hovermode="closest")
     return fig
@@ -217,8 +226,10 @@ def fan_figure(
     *,
     history_tail: pd.Series | None = None,
     threshold_mw: float | None = None,
+    demand_unit: str = "MW",
 ) -> go.Figure:
-    """A fan chart of an ensemble's P10-P90 band with the median and an optional threshold line."""
+    """A fan chart of an ensemble's P10-P90 band with the median and an optional threshold line
+    (demand and threshold in ``demand_unit``, the history's own unit)."""
     fig = go.Figure()
     dates = pd.DatetimeIndex(daily["date"])
     colour = palette.SCENARIOS[0]
@@ -256,10 +267,10 @@ def fan_figure(
         fig.add_hline(
             y=float(threshold_mw),
             line={"color": palette.THRESHOLD, "width": 2, "dash": "dash"},
-            annotation_text=f"threshold {threshold_mw:,.0f} MW",
+            annotation_text=f"threshold {threshold_mw:,.0f} {demand_unit}",
             annotation_position="top left",
         )
-    fig.update_yaxes(title_text="daily peak demand, MW")
+    fig.update_yaxes(title_text=f"daily peak demand, {demand_unit}")
     style_figure(fig, height=440)
     return fig
 

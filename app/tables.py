@@ -177,6 +177,20 @@ def backtest_horizon_columns(columns: Iterable[str], demand_unit: str = "MW") ->
     return {k: v for k, v in config.items() if k in list(columns)}
 
 
+def backtest_band_columns(columns: Iterable[str], demand_unit: str = "MW") -> dict:
+    """``BacktestResult.by_band``: the scores of :func:`backtest_horizon_columns` over stretches
+    of days ahead (the first and last day are in the stretch's name)."""
+    config = backtest_horizon_columns(columns, demand_unit)
+    config.update(
+        {
+            "band": st.column_config.TextColumn("days ahead"),
+            "first_day": None,
+            "last_day": None,
+        }
+    )
+    return {k: v for k, v in config.items() if k in list(columns)}
+
+
 def backtest_forecast_columns(columns: Iterable[str], unit: units.Unit, demand_unit: str) -> dict:
     """``BacktestResult.forecasts`` (the page converts the temperature to the display unit)."""
     du = demand_unit

@@ -66,6 +66,11 @@ DEFAULT_SPAN_DAYS = 364
 # rest of the first two weeks in two (our choice, as the product's interval checks use them).
 HORIZON_BANDS = ((1, 4), (5, 9), (10, 14))
 
+# Longest backtest horizon and most origins, days and count (our choice: a horizon as long as the
+# longest scenario, origins enough for a year of weekly starts several times over).
+MAX_HORIZON_DAYS = 90
+MAX_ORIGINS = 500
+
 # Ex-post CRPS and PIT come from simulated paths; this many per origin.
 EX_POST_PATHS = 1000
 
@@ -339,8 +344,8 @@ def backtest(
     from loadcore.model import FitSettings, fit
 
     settings = FitSettings() if settings is None else settings
-    horizon = _check_int(horizon, "horizon", 1, 90)
-    origins = _check_int(origins, "origins", 1, 500)
+    horizon = _check_int(horizon, "horizon", 1, MAX_HORIZON_DAYS)
+    origins = _check_int(origins, "origins", 1, MAX_ORIGINS)
     mode = _normal_mode(mode)
     if refit not in REFITS:
         raise InputError(

@@ -8,7 +8,7 @@ import streamlit as st
 
 from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
-from loadcore.evaluate import backtest
+from loadcore.evaluate import MAX_HORIZON_DAYS, MAX_ORIGINS, backtest
 from loadcore.export import round_for_planners, to_csv_bytes
 from loadcore.levels import coverage_column, level_label
 
@@ -24,8 +24,10 @@ st.caption(
 
 with st.form("bt_form", border=True):
     a, b, c = st.columns(3)
-    horizon = a.number_input("Days ahead", 1, 60, 14, key="bt_horizon")
-    origins = b.number_input("Origins", 2, 100, 20, key="bt_origins")
+    horizon = a.number_input(
+        f"Days ahead (1 to {MAX_HORIZON_DAYS})", 1, MAX_HORIZON_DAYS, 14, key="bt_horizon"
+    )
+    origins = b.number_input(f"Origins (2 to {MAX_ORIGINS})", 2, MAX_ORIGINS, 20, key="bt_origins")
     mode = c.radio(
         "Temperatures",
         ["ex_post", "ex_ante"],
@@ -82,6 +84,33 @@ for i, level in enumerate(levels):
         f"{100 * summary[coverage_column(level)]:.0f} %",
         help=f"A well-calibrated {level} % interval holds about {level} % of the days.",
     )
+
+st.subheader("How often the intervals held, by stretch of days ahead")
+bands = result.by_band
+st.caption(
+    "Each stretch pools every origin's days that far ahead, so its share rests on many more days "
+    "than one day ahead alone. An interval that holds the actual demand on about its own share "
+    "of days (80 % of days for the 80 % interval) is as wide as it should be; a clearly smaller "
+    "share means it was too narrow there."
+)
+for row in bands.itertuples(index=False):
+    held = "; ".join(
+        f"the {level} % interval held the actual demand on "
+        f"{100 * getattr(row, coverage_column(level)):.0f} % of them"
+        for level in levels
+    )
+    first, last = int(row.first_day), int(row.last_day)
+    stretch = f"Day {first} ahead" if first == last else f"Days {first} to {last} ahead"
+    st.markdown(
+        f"- **{stretch}** ({int(row.n)} days scored): {held}; the average miss was "
+        f"{row.mape:.1f} % of demand (same weekday last week: {row.naive_mape:.1f} %)."
+    )
+st.dataframe(
+    bands,
+    hide_index=True,
+    width="stretch",
+    column_config=tables.backtest_band_columns(bands.columns, fitted.demand_unit),
+)
 
 by_h = result.by_horizon
 st.subheader("By days ahead")

@@ -100,7 +100,9 @@ if meeting:
         cols[i % len(cols)].metric(
             md(row.scenario),
             f"{row.peak_mean:,.0f} {fitted.demand_unit}",
-            None if is_base else f"{row.peak_vs_base:+,.0f} MW vs {md(choice.base)}",
+            None
+            if is_base
+            else f"{row.peak_vs_base:+,.0f} {fitted.demand_unit} vs {md(choice.base)}",
             delta_color="inverse",
             help=f"Highest daily mean, on {row.peak_date:%a %d %b %Y}",
         )
@@ -214,7 +216,12 @@ for name in choice.shown:
 # --------------------------------------------------------------------------------------------
 st.subheader("Summary")
 try:
-    summary = comparison_summary(chosen, base_name)
+    summary = comparison_summary(
+        chosen,
+        base_name,
+        demand_unit=fitted.demand_unit,
+        demand_kind=fitted.history.settings.subdaily_demand,
+    )
 except LoadcoreError as exc:
     display.show_error(exc)
 else:

@@ -27,7 +27,11 @@ with st.form("ens_form", border=True):
     paths = d.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
     a, b = st.columns(2)
     threshold = a.number_input(
-        "Threshold, MW (0 for none)", min_value=0.0, value=0.0, step=50.0, key="ens_threshold"
+        f"Threshold, {fitted.demand_unit} (0 for none)",
+        min_value=0.0,
+        value=0.0,
+        step=50.0,
+        key="ens_threshold",
     )
     seed = b.number_input("Seed", 0, 2**31 - 1, 0, key="ens_seed")
     run = st.form_submit_button("Run the ensemble", type="primary")
@@ -66,7 +70,10 @@ tail = fitted.history.frame["demand"].iloc[-28:]
 st.plotly_chart(
     theme=None,
     figure_or_data=charts.fan_figure(
-        result.daily, history_tail=tail, threshold_mw=result.threshold_mw
+        result.daily,
+        history_tail=tail,
+        threshold_mw=result.threshold_mw,
+        demand_unit=fitted.demand_unit,
     ),
     key="ens_fan",
 )
@@ -82,7 +89,7 @@ cols[1].metric(
 )
 if result.threshold_mw is not None:
     cols[2].metric(
-        f"Odds of any day above {result.threshold_mw:,.0f} MW",
+        f"Odds of any day above {result.threshold_mw:,.0f} {fitted.demand_unit}",
         f"{100 * result.prob_any_above:.0f} %",
     )
     cols[3].metric("Expected days above", f"{result.expected_days_above:.1f}")
@@ -102,15 +109,18 @@ st.plotly_chart(
     figure_or_data=charts.bars_figure(
         mid.round(0),
         hist["share"] * 100,
-        x_title="window peak, MW",
+        x_title=f"window peak, {fitted.demand_unit}",
         y_title="share of paths, %",
         hlines=None,
     ),
     key="ens_peak",
 )
 st.markdown(
-    " · ".join(f"{name.upper()}: {value:,.0f} MW" for name, value in peak.quantiles.items())
-    + f" · mean: {peak.mean_mw:,.0f} MW"
+    " · ".join(
+        f"{name.upper()}: {value:,.0f} {fitted.demand_unit}"
+        for name, value in peak.quantiles.items()
+    )
+    + f" · mean: {peak.mean_mw:,.0f} {fitted.demand_unit}"
 )
 
 st.subheader("Day by day")

@@ -222,7 +222,7 @@ if len(changed):
         )[["demand", "temperature", "temperature_filled"]]
         shown = shown.rename(
             columns={
-                "demand": "demand, MW (blank = missing)",
+                "demand": f"demand, {history.settings.demand_unit} (blank = missing)",
                 "temperature": f"temperature, {display.unit_symbol()}",
                 "temperature_filled": "temperature filled in",
             }
@@ -278,7 +278,11 @@ if fitted is not None:
 st.plotly_chart(
     theme=None,
     figure_or_data=charts.history_figure(
-        frame, types, to_unit=display.to_display, unit=display.unit_symbol()
+        frame,
+        types,
+        to_unit=display.to_display,
+        unit=display.unit_symbol(),
+        demand_unit=history.settings.demand_unit,
     ),
     key="history_chart",
 )
@@ -307,6 +311,7 @@ st.plotly_chart(
         range_c=range_c,
         to_unit=display.to_display,
         unit=display.unit_symbol(),
+        demand_unit=history.settings.demand_unit,
     ),
     key="response_chart",
 )
