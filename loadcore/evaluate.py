@@ -246,7 +246,7 @@ def _refit_same_orders(model, cut):
     """Re-estimate the parameters on ``cut`` keeping the model's orders."""
     from loadcore.model import fit
 
-    return fit(cut, model.settings, orders=model.orders)
+    return fit(cut, model.settings, orders=model.orders, compare_responses=False)
 
 
 def _scores_block(

@@ -45,6 +45,7 @@ from .orders import (
     roots_ok,
     seasonal_strength,
 )
+from .response import MARGIN_AICC, ResponseComparison, ResponseFit, profile_bases
 from .screening import ScreenScore, css_fit, screen
 from .search import SCREEN_MARGIN, SearchOutcome, fit_orders, search_orders
 from .settings import SEARCH_MODES, FitSettings, Progress
@@ -53,6 +54,7 @@ from .terms import TermSpec, design_matrix, model_response
 from .workers import default_workers
 
 __all__ = [
+    "MARGIN_AICC",
     "MODEL_FILE_VERSION",
     "SCREEN_MARGIN",
     "SEARCH_MODES",
@@ -67,6 +69,8 @@ __all__ = [
     "Orders",
     "Progress",
     "RegressionArima",
+    "ResponseComparison",
+    "ResponseFit",
     "ScreenScore",
     "SearchBounds",
     "SearchOutcome",
@@ -89,6 +93,7 @@ __all__ = [
     "ljung_box",
     "load_model",
     "model_response",
+    "profile_bases",
     "roots_ok",
     "screen",
     "search_orders",

@@ -13,7 +13,10 @@ refused with one :class:`~loadcore.errors.ModelError` line (naming the part of t
   the shock variance, its observation variance zero, its state covariance symmetric positive
   semi-definite and its state mean of the size the history allows;
 - the log-likelihood and AICc are finite and the days used fit in the history;
-- the differencing tests agree with the orders.
+- the differencing tests agree with the orders;
+- a response comparison (optional) compares this model's response with the other kind, its
+  columns are those its settings build (the rest of the design as the model's), its
+  coefficients finite and one per column, its log-likelihoods and AICc finite.
 """
 
 from __future__ import annotations
@@ -204,6 +207,47 @@ def _check_end_state(model: Any) -> None:
         )
 
 
+def _columns_for(model: Any, terms: Any) -> tuple[str, ...]:
+    origin = pd.Timestamp(model.origin)
+    return tuple(
+        design_matrix(
+            pd.DatetimeIndex([origin]),
+            np.array([terms.reference_temp_c]),
+            [model.base_type],
+            terms,
+            levels=model.day_type_levels,
+            base_type=model.base_type,
+            origin=origin,
+            intercept=model.intercept,
+        ).columns
+    )
+
+
+def _check_comparison(model: Any) -> None:
+    comparison = model.response_comparison
+    if comparison is None:
+        return
+    part = "response_comparison"
+    fitted, other = comparison.fitted, comparison.other
+    if fitted.response != model.settings.terms.response or fitted.columns != model.columns:
+        raise _refuse("The response comparison does not describe this model's response", part)
+    for side in (fitted, other):
+        if side.columns != _columns_for(model, side.terms):
+            raise _refuse(
+                "The response comparison's columns do not match its temperature settings", part
+            )
+        if (
+            side.beta.shape != (len(side.columns),)
+            or not np.all(np.isfinite(side.beta))
+            or not (np.isfinite(side.loglik) and np.isfinite(side.aicc))
+        ):
+            raise _refuse(
+                "The response comparison holds coefficients or AICc values that are not finite "
+                "or not one per column",
+                part,
+            )
+
+
 def check_loaded(model: Any) -> None:
     """Refuse a model read from a file unless every number and shape is as a fit makes them.
 
@@ -220,3 +264,4 @@ def check_loaded(model: Any) -> None:
     _check_design(model)
     _check_parameters(model)
     _check_end_state(model)
+    _check_comparison(model)

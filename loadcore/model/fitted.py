@@ -37,6 +37,7 @@ from . import model_file, wording
 from .diagnostics import ACF_MAX_LAG, Diagnostics, diagnose
 from .forecast import Forecast
 from .orders import SHOCK_VARIANCE, DifferencingDecision, Orders
+from .response import ResponseComparison, ResponseFit
 from .settings import FitSettings
 from .statespace import EndState, run_filter
 from .terms import design_matrix, model_response
@@ -94,6 +95,9 @@ class FittedModel:
         One-step-ahead prediction errors after the filter's start-up days, model scale.
     fitted_at : str
         When the parameters were estimated, UTC ISO time.
+    response_comparison : ResponseComparison or None
+        The model's temperature response beside the other one, fitted with the same error
+        orders (:mod:`loadcore.model.response`); None in model files written before it.
     """
 
     settings: FitSettings
@@ -116,6 +120,7 @@ class FittedModel:
     end_state: EndState
     residuals: pd.Series
     fitted_at: str = ""
+    response_comparison: ResponseComparison | None = None
     _statsmodels: dict = field(default_factory=dict, init=False, repr=False)
 
     def __post_init__(self) -> None:
@@ -341,18 +346,14 @@ class FittedModel:
         y = pd.Series(y, index=self.history.frame.index)
         return pd.Series(self.to_demand((y - self.residuals).dropna()), name="fitted")
 
-    def response_curve(self, temps_c) -> pd.DataFrame:
-        """Median demand against temperature for a reference-type day at the end of the history.
-
-        Annual terms are left at zero (their average over the year).
-        """
-        temps = np.asarray(temps_c, float)
+    def _reference_day(self, temps: np.ndarray, terms, columns, beta) -> np.ndarray:
+        """x'beta for a reference-type day at the end of the history, annual terms at zero."""
         n = len(temps)
         X = design_matrix(
             pd.DatetimeIndex([self.history_end] * n),
             temps,
             [self.base_type] * n,
-            self.settings.terms,
+            terms,
             levels=self.day_type_levels,
             base_type=self.base_type,
             origin=self.origin,
@@ -361,11 +362,104 @@ class FittedModel:
         for c in X.columns:
             if c.startswith("annual_"):
                 X[c] = 0.0
-        lin = X[list(self.columns)].to_numpy() @ self.beta
+        return X[list(columns)].to_numpy() @ np.asarray(beta, float)
+
+    def response_curve(self, temps_c) -> pd.DataFrame:
+        """Median demand against temperature for a reference-type day at the end of the history.
+
+        Annual terms are left at zero (their average over the year). With a response
+        comparison, ``other_demand`` is the other response's curve (same day, same error
+        orders; for differenced errors it is levelled to this model's curve over the
+        history's temperatures).
+        """
+        temps = np.asarray(temps_c, float)
+        lin = self._reference_day(temps, self.settings.terms, self.columns, self.beta)
         if not self.intercept:
             # Differenced errors: the level comes from the end of the history.
             lin = lin + (self.end_state.observation @ self.end_state.mean).item()
-        return pd.DataFrame({"temperature_c": temps, "demand": self.to_demand(lin)})
+        out = pd.DataFrame({"temperature_c": temps, "demand": self.to_demand(lin)})
+        other = self.other_response
+        if other is not None:
+            lin_other = self._reference_day(temps, other.terms, other.columns, other.beta)
+            if not self.intercept:
+                seen = self.history.frame["temperature_c"].to_numpy(float)
+                own_seen = self._reference_day(seen, self.settings.terms, self.columns, self.beta)
+                other_seen = self._reference_day(seen, other.terms, other.columns, other.beta)
+                lin_other = lin_other + float(np.mean(own_seen - other_seen))
+                lin_other = lin_other + (self.end_state.observation @ self.end_state.mean).item()
+            out["other_demand"] = self.to_demand(lin_other)
+        return out
+
+    @property
+    def other_response(self) -> ResponseFit | None:
+        """The other temperature response fitted with this model's error orders, if any."""
+        comparison = self.response_comparison
+        return None if comparison is None else comparison.other
+
+    def response_contrast(
+        self, temperature_range_c: tuple[float, float] | None = None
+    ) -> wording.ResponseContrast | None:
+        """Demand at the coldest and hottest temperature under both responses, or None
+        without a comparison.
+
+        Parameters
+        ----------
+        temperature_range_c : (low, high), optional
+            The scenario temperatures to read the curves at, °C; by default the history's.
+        """
+        comparison = self.response_comparison
+        if comparison is None:
+            return None
+        low, high = temperature_range_c or self.temperature_range_c
+        curve = self.response_curve([float(low), float(high)])
+        return wording.ResponseContrast(
+            fitted=comparison.fitted.response,
+            other=comparison.other.response,
+            fitted_aicc=comparison.fitted.aicc,
+            other_aicc=comparison.other.aicc,
+            cold_c=float(low),
+            hot_c=float(high),
+            fitted_demand=(float(curve["demand"].iloc[0]), float(curve["demand"].iloc[1])),
+            other_demand=(
+                float(curve["other_demand"].iloc[0]),
+                float(curve["other_demand"].iloc[1]),
+            ),
+            other_terms=comparison.other.terms,
+            asked=comparison.asked,
+        )
+
+    def response_note(
+        self,
+        temp_unit: str = "C",
+        medium: str = "command",
+        temperature_range_c: tuple[float, float] | None = None,
+    ) -> str | None:
+        """The one sentence that says the other response is clearly better, or None.
+
+        Parameters
+        ----------
+        temp_unit : {"C", "F"}
+            Unit of the temperatures in the sentence.
+        medium : {"command", "app", "brief"}
+            Where it is read, which decides how it says to switch.
+        temperature_range_c : (low, high), optional
+            Scenario temperatures, °C; by default the history's range.
+        """
+        comparison = self.response_comparison
+        if comparison is None or not comparison.other_is_better:
+            return None
+        contrast = self.response_contrast(temperature_range_c)
+        return wording.response_note(
+            contrast, units.parse_unit(temp_unit), self.demand_unit, medium
+        )
+
+    def response_settings(self) -> FitSettings | None:
+        """These settings with the other response (its estimated bases included): what the
+        switch refits with; None without a comparison."""
+        other = self.other_response
+        if other is None:
+            return None
+        return dataclasses.replace(self.settings, terms=other.terms)
 
     # ---- tables and words -----------------------------------------------------------------
     def std_errors(self) -> np.ndarray:

@@ -8,15 +8,21 @@ jointly by exact Gaussian maximum likelihood (:mod:`loadcore.model.likelihood`).
    and the columns that stay identified under that differencing;
 3. the order search (:func:`loadcore.model.search.search_orders`): pilot, screen, exact fits,
    polish;
-4. one Kalman filter pass at the chosen parameters (statsmodels, the reference) for the end
+4. the other temperature response with the same error orders
+   (:mod:`loadcore.model.response`: degree days with bases by profile likelihood beside the
+   quadratic, or the quadratic beside degree days); with ``response="auto"`` the one with the
+   lower AICc is kept (refitted with its covariance);
+5. one Kalman filter pass at the chosen parameters (statsmodels, the reference) for the end
    state the forecasts start from and the one-step residuals
    (:func:`loadcore.model.statespace.run_filter`).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import datetime as dt
 import logging
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -25,14 +31,16 @@ import pandas as pd
 from ..calendar import BASE_TYPE, day_types
 from ..errors import ModelError
 from ..history import History
+from . import response as other_response
+from .exact import exact_fit
 from .fitted import FittedModel
 from .identify import check_temperature_terms
-from .likelihood import identified_columns
+from .likelihood import RegressionArima, identified_columns
 from .orders import DifferencingDecision, Orders, choose_differencing
 from .search import candidate_table, search_orders
 from .settings import FitSettings, Progress
 from .statespace import run_filter
-from .terms import design_matrix, model_response
+from .terms import TermSpec, design_matrix, model_response
 
 log = logging.getLogger(__name__)
 
@@ -47,9 +55,25 @@ class _Design:
 
     y: np.ndarray
     frame: pd.DataFrame
+    types: np.ndarray
     levels: tuple[str, ...]
     base_type: str
     origin: pd.Timestamp
+
+    def columns(self, history: History, terms: TermSpec) -> pd.DataFrame:
+        """The regression columns of ``history`` for other temperature terms (intercept
+        included; every other column as in ``frame``)."""
+        frame = history.frame
+        return design_matrix(
+            pd.DatetimeIndex(frame.index),
+            frame["temperature_c"].to_numpy(float),
+            self.types,
+            terms,
+            levels=self.levels,
+            base_type=self.base_type,
+            origin=self.origin,
+            intercept=True,
+        )
 
 
 def _ols(y: np.ndarray, X: np.ndarray) -> np.ndarray:
@@ -92,7 +116,7 @@ def _regression(history: History, settings: FitSettings) -> tuple[_Design, np.nd
     check_temperature_terms(
         X, frame["temperature_c"].to_numpy(float), np.isfinite(y), settings.terms
     )
-    return _Design(y, X, levels, base, dates[0]), _ols(y, X.to_numpy())
+    return _Design(y, X, types, levels, base, dates[0]), _ols(y, X.to_numpy())
 
 
 def _identified(frame: pd.DataFrame, d: int, D: int) -> pd.DataFrame:
@@ -118,6 +142,7 @@ def fit(
     progress: Progress | None = None,
     *,
     orders: Orders | None = None,
+    compare_responses: bool = True,
 ) -> FittedModel:
     """Fit the demand model to a validated history, choosing the error orders automatically.
 
@@ -131,12 +156,19 @@ def fit(
         ``progress(done, total, text)`` after each candidate.
     orders : Orders, optional
         Skip the search and fit these orders (parameters are still estimated).
+    compare_responses : bool
+        Also fit the other temperature response with the chosen orders
+        (:mod:`loadcore.model.response`; about a tenth to a half of a quick fit's time). Always
+        done when the settings ask for ``response="auto"``; the rolling refits of a backtest
+        leave it out.
 
     Returns
     -------
     FittedModel
     """
     settings = settings or FitSettings()
+    asked = settings.terms.response
+    settings = dataclasses.replace(settings, terms=settings.terms.start_response())
     design, beta_ols = _regression(history, settings)
     y = design.y
     X_full = design.frame.to_numpy()
@@ -159,6 +191,37 @@ def fit(
         progress=progress,
     )
     best = outcome.best
+    started = time.perf_counter()
+
+    def build(terms: TermSpec) -> pd.DataFrame:
+        return _identified(design.columns(history, terms), d, D)
+
+    temps = history.frame["temperature_c"].to_numpy(float)
+    other = None
+    if compare_responses or asked == "auto":
+        other = other_response.fit_other(y, build, settings.terms, temps, best.orders, best.arma)
+    comparison = None
+    if other is not None:
+        own = other_response.ResponseFit(
+            settings.terms, tuple(X_df.columns), best.beta, best.loglik, best.aicc
+        )
+        other_fit = other[0]
+        if asked == "auto" and other_fit.aicc < own.aicc:
+            # The other response wins: refit it with its covariance from its own optimum.
+            X_df = other[2]
+            X = X_df.to_numpy()
+            best = exact_fit(RegressionArima(y, X, best.orders), start=other[1].arma)
+            settings = dataclasses.replace(settings, terms=other_fit.terms)
+            own, other_fit = other_fit, own
+        comparison = other_response.comparison(asked, own, other_fit, started)
+        log.info(
+            "temperature response %s AICc %.1f, %s AICc %.1f (%.2f s)",
+            own.response,
+            own.aicc,
+            other_fit.response,
+            other_fit.aicc,
+            comparison.seconds,
+        )
     params = best.params
     covariance = best.cov
     run = run_filter(y, X, best.orders, params, with_covariance=not np.all(np.isfinite(covariance)))
@@ -188,6 +251,7 @@ def fit(
         end_state=run.end_state,
         residuals=run.residuals(pd.DatetimeIndex(history.frame.index)),
         fitted_at=dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+        response_comparison=comparison,
     )
     model._keep_statsmodels_results(run.results)
     log.info("fitted %s, AICc %.2f", best.orders.describe(), model.aicc)

@@ -25,6 +25,9 @@ Format 2 (written since the model package; every name is ours)::
                       shock_covariance, observation_variance (EndState)
     residuals         start, values (one-step prediction errors, model scale)
     candidates        the search's candidate table, one object per row
+    response_comparison  (optional; files written before it have none) asked (quadratic,
+                      degree_days or auto), fitted and other (each: terms, columns,
+                      coefficients, log_likelihood, aicc, bases_estimated), seconds
 
 Format 1 (loadcore 0.1) mirrored a statistics library's spelling (``orders`` as a list,
 ``param_names`` such as ``ar.S.L7`` and ``sigma2``, ``cov_params``, ``max_p``...); it is read by
@@ -47,6 +50,7 @@ from ..history import HistorySettings, history_from_frame
 from ..version import __version__
 from . import file_checks
 from .orders import WEEKLY_PERIOD, DifferencingDecision, Orders
+from .response import ResponseComparison
 from .settings import FitSettings
 from .statespace import EndState, own_name
 
@@ -158,6 +162,11 @@ def model_to_dict(model: Any) -> dict:
             "values": _nan_to_none(model.residuals.to_numpy(float)),
         },
         "candidates": json.loads(model.candidates.to_json(orient="records")),
+        **(
+            {"response_comparison": model.response_comparison.to_dict()}
+            if model.response_comparison is not None
+            else {}
+        ),
     }
 
 
@@ -356,6 +365,11 @@ def model_fields(data: dict, where: str) -> dict[str, Any]:
             name="residual",
         ),
         "fitted_at": str(data.get("fitted_at", "")),
+        "response_comparison": (
+            ResponseComparison.from_dict(data["response_comparison"])
+            if data.get("response_comparison") is not None
+            else None
+        ),
     }
 
 

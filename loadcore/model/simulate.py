@@ -44,6 +44,10 @@ TRUE_RESPONSE = {
     "annual_sin2": 0.002,
 }
 
+#: Log-demand per heating and cooling degree (per °C) when a history is simulated with the
+#: degree-day response (close to the demo's invented utility; our choice).
+TRUE_DEGREE_DAYS = {"hdd": 0.011, "cdd": 0.026}
+
 
 @dataclass(frozen=True)
 class ErrorTruth:
@@ -146,6 +150,7 @@ def simulated_history(
     missing_fraction: float = 0.03,
     seed: int = 0,
     start: str = "2019-01-01",
+    terms: TermSpec | None = None,
 ) -> SimulatedHistory:
     """Simulate a daily log-demand history with the product's regressors.
 
@@ -161,6 +166,9 @@ def simulated_history(
         Seed of the one random generator behind everything.
     start : str
         First date (ISO).
+    terms : TermSpec, optional
+        The true regressors (default ``TermSpec()``, the quadratic); with degree days the
+        coefficients of :data:`TRUE_DEGREE_DAYS` at the spec's bases.
     """
     if not 0.0 <= missing_fraction < 0.5:
         raise InputError(
@@ -185,14 +193,14 @@ def simulated_history(
         dates,
         temperature_c,
         types,
-        TermSpec(),
+        terms or TermSpec(),
         levels=levels,
         base_type=base,
         origin=dates[0],
         intercept=True,
     )
     columns = tuple(frame.columns)
-    beta = np.array([TRUE_RESPONSE[c] for c in columns])
+    beta = np.array([{**TRUE_RESPONSE, **TRUE_DEGREE_DAYS}[c] for c in columns])
     X = frame.to_numpy()
     y = X @ beta + simulate_errors(truth, n_days, rng)
     n_missing = int(round(missing_fraction * n_days))

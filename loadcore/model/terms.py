@@ -7,7 +7,7 @@ scenario is always described by exactly the columns the model was fitted with.
 
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass, fields
+from dataclasses import asdict, dataclass, fields, replace
 
 import numpy as np
 import pandas as pd
@@ -22,7 +22,12 @@ TEMP_SCALE_C = 10.0
 #: Days per year for the annual Fourier terms and the growth term (common practice, no source).
 DAYS_PER_YEAR = 365.25
 
+#: The temperature responses a model can have.
 RESPONSES = ("quadratic", "degree_days")
+
+#: What a fit may be asked for: a response, or ``auto`` (the one with the lower AICc, with the
+#: same error orders; :mod:`loadcore.model.response`).
+RESPONSE_CHOICES = (*RESPONSES, "auto")
 
 
 @dataclass(frozen=True)
@@ -31,9 +36,12 @@ class TermSpec:
 
     Parameters
     ----------
-    response : {"quadratic", "degree_days"}
+    response : {"quadratic", "degree_days", "auto"}
         ``quadratic``: centred temperature and its square. ``degree_days``: heating degrees below
         ``heating_base_c`` and cooling degrees above ``cooling_base_c`` (°C), flat in between.
+        ``auto`` (a fit setting only): fit both with the same error orders and keep the one with
+        the lower AICc (degree days with bases estimated by profile likelihood); a fitted model's
+        terms always name the response it has.
     reference_temp_c : float
         Centre of the quadratic terms, °C.
     heating_base_c, cooling_base_c : float
@@ -53,7 +61,7 @@ class TermSpec:
 
     def __post_init__(self) -> None:
         where = "model settings"
-        checks.one_of(self.response, "temperature response", RESPONSES, where=where)
+        checks.one_of(self.response, "temperature response", RESPONSE_CHOICES, where=where)
         for name in ("reference_temp_c", "heating_base_c", "cooling_base_c"):
             value = checks.real_number(
                 getattr(self, name), name, units.PLAUSIBLE_MIN_C, units.PLAUSIBLE_MAX_C, where=where
@@ -83,7 +91,13 @@ class TermSpec:
         return cls(**data)
 
     def temperature_columns(self) -> tuple[str, ...]:
-        return ("temp", "temp_sq") if self.response == "quadratic" else ("hdd", "cdd")
+        return ("hdd", "cdd") if self.response == "degree_days" else ("temp", "temp_sq")
+
+    def start_response(self) -> TermSpec:
+        """The settings a fit starts from: ``auto`` starts from the quadratic (the default)."""
+        if self.response == "auto":
+            return replace(self, response="quadratic")
+        return self
 
 
 def model_response(demand: np.ndarray, use_log: bool) -> np.ndarray:
@@ -104,6 +118,12 @@ def type_column(day_type: str) -> str:
 def temperature_terms(temperature_c: np.ndarray, spec: TermSpec) -> dict[str, np.ndarray]:
     """Temperature regressors for daily temperatures in °C."""
     t = np.asarray(temperature_c, dtype=float)
+    if spec.response == "auto":
+        raise InputError(
+            "The temperature response 'auto' has no columns of its own",
+            where="model settings",
+            fix="Fit the model: it resolves 'auto' to the quadratic or degree days",
+        )
     if spec.response == "quadratic":
         x = (t - spec.reference_temp_c) / TEMP_SCALE_C
         return {"temp": x, "temp_sq": x * x}

@@ -1,9 +1,11 @@
 """Planner wording of a fitted model: the error model in words, term labels, what each
-coefficient means, and the temperature of lowest demand, in °C or °F through loadcore.units."""
+coefficient means, the temperature of lowest demand, and the note that the other temperature
+response fits clearly better, in °C or °F through loadcore.units."""
 
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 from .. import units
 from ..calendar import day_type_label
@@ -190,3 +192,101 @@ def describe_lowest_demand(
         return "The fitted response has no minimum (it is not U-shaped); check the data."
     where = "" if lo <= lowest_c <= hi else " (outside the fitted range: treat with care)"
     return f"Demand is lowest at about {temp(lowest_c)}{where}."
+
+
+#: The temperature responses in a planner's words.
+RESPONSE_NAMES = {
+    "quadratic": "smooth-curve (quadratic) response",
+    "degree_days": "degree-day response",
+}
+
+#: Where a response note is read (it says how to switch in that place's own terms).
+NOTE_MEDIA = ("command", "app", "brief")
+
+
+@dataclass(frozen=True)
+class ResponseContrast:
+    """The two temperature responses at the coldest and hottest temperature.
+
+    Attributes
+    ----------
+    fitted, other : str
+        The model's response and the other one (``quadratic`` or ``degree_days``).
+    fitted_aicc, other_aicc : float
+        Their AICc with the same error orders.
+    cold_c, hot_c : float
+        The coldest and hottest temperature read, °C.
+    fitted_demand, other_demand : (float, float)
+        Median demand of a reference-type day at ``cold_c`` and ``hot_c`` under each, demand
+        units.
+    other_terms : TermSpec
+        The other response's settings (its bases).
+    asked : str
+        The response the fit was asked for (``auto`` when it chose).
+    """
+
+    fitted: str
+    other: str
+    fitted_aicc: float
+    other_aicc: float
+    cold_c: float
+    hot_c: float
+    fitted_demand: tuple[float, float]
+    other_demand: tuple[float, float]
+    other_terms: TermSpec
+    asked: str = ""
+
+
+def switch_label(response: str) -> str:
+    """The app's one-click switch to ``response`` (the button and the note say the same)."""
+    return f"Refit with the {RESPONSE_NAMES[response]}"
+
+
+def _bases(terms: TermSpec, unit: units.Unit) -> str:
+    return (
+        f"heating base {units.format_temp(terms.heating_base_c, unit, digits=0)}, cooling base "
+        f"{units.format_temp(terms.cooling_base_c, unit, digits=0)}"
+    )
+
+
+def _switch(contrast: ResponseContrast, unit: units.Unit, medium: str) -> str:
+    other = contrast.other_terms
+    if medium == "app":
+        return f"to switch, press '{switch_label(contrast.other)}' below (everything else is kept)"
+    if medium == "brief":
+        shape = RESPONSE_NAMES[contrast.other]
+        if contrast.other == "degree_days":
+            shape += f" ({_bases(other, unit)})"
+        return f"refitting with the {shape} is advised before these figures are used"
+    if contrast.other == "degree_days":
+        bases = (
+            f"--heating-base {units.to_unit(other.heating_base_c, unit):g} --cooling-base "
+            f"{units.to_unit(other.cooling_base_c, unit):g}"
+        )
+        return f"to switch, fit again with --response auto (or --response degree-days {bases})"
+    return "to switch, fit again with --response auto (or --response quadratic)"
+
+
+def response_note(
+    contrast: ResponseContrast, unit: units.Unit, demand_unit: str, medium: str = "command"
+) -> str:
+    """The one sentence saying the other response fits clearly better: by how much, what it
+    changes at the coldest and hottest temperature, and how to switch (in ``medium``'s terms:
+    :data:`NOTE_MEDIA`)."""
+    if medium not in NOTE_MEDIA:
+        raise ValueError(f"medium must be one of {NOTE_MEDIA}, got {medium!r}")
+
+    def demand(value: float) -> str:
+        return f"{value:,.0f} {demand_unit}"
+
+    gain = contrast.fitted_aicc - contrast.other_aicc
+    cold = units.format_temp(contrast.cold_c, unit)
+    hot = units.format_temp(contrast.hot_c, unit)
+    return (
+        f"The {RESPONSE_NAMES[contrast.other]} fits this history clearly better than the "
+        f"{RESPONSE_NAMES[contrast.fitted]} in use (AICc lower by {gain:,.0f}, same error "
+        f"model): at the coldest temperature, {cold}, it gives {demand(contrast.other_demand[0])} "
+        f"where the model in use gives {demand(contrast.fitted_demand[0])}, and at the hottest, "
+        f"{hot}, {demand(contrast.other_demand[1])} against {demand(contrast.fitted_demand[1])}; "
+        f"{_switch(contrast, unit, medium)}."
+    )
