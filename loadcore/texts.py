@@ -70,6 +70,19 @@ SPARSE_MIN_DAYS = 10
 SPARSE_HALF_WIDTH_C = 1.5
 
 
+#: A forecast whose growth term is carried more than this many months past the history's end
+#: says so (product specification).
+GROWTH_NOTE_MONTHS = 12
+
+
+def growth_note(months: float) -> str:
+    """The note of a far window: the growth term is extrapolated by ``months`` months."""
+    return (
+        f"The growth term is extrapolated {months:.0f} months beyond the end of the history: "
+        "the forecast assumes demand keeps growing (or shrinking) at the fitted yearly rate"
+    )
+
+
 def heat_note(peak_c: float, unit: Unit) -> str:
     """The public-safety note for a scenario with days at or above :data:`HEAT_HEALTH_C`."""
     return (

@@ -28,6 +28,7 @@ import pandas as pd
 from loadcore import texts
 from loadcore.errors import InputError, LoadcoreError, ScenarioError, quote
 from loadcore.scenario import Scenario, fill_blank_day_types
+from loadcore.scenario.values import check_length, check_start
 from loadcore.scores import sample_quantiles
 
 __all__ = [
@@ -439,7 +440,7 @@ def pool_trace_paths(
     """Demand paths for every temperature trace, grouped by trace.
 
     One call of ``model.simulate_noise`` draws ``paths_per_trace`` error paths from the end of
-    the model's history; the same error paths are added to every trace's linear predictor, with
+    the model's history (through the gap before a window that starts later); the same error paths are added to every trace's linear predictor, with
     the spread of the estimated regression coefficients (``model.coefficient_draws``, the same
     coefficient draws for every trace). This
     is exact for each trace's predictive distribution because the model's error process does not
@@ -468,7 +469,19 @@ def pool_trace_paths(
     dates = pd.DatetimeIndex(traces.index)
     types = _day_type_values(model, dates, day_types)
     horizon = len(dates)
-    noise = np.asarray(model.simulate_noise(horizon, paths_per_trace, seed), dtype=float)
+    gap = int((dates[0] - pd.Timestamp(model.history_end).normalize()).days) - 1
+    if gap < 0:
+        raise ScenarioError(
+            f"The window starts on {dates[0].date()}, inside the model's history "
+            f"(to {pd.Timestamp(model.history_end).date()})",
+            where="weather ensemble window",
+            fix="Start the window after the history's last day",
+        )
+    # A far window: the error paths run through the gap between the history and the window.
+    noise = model.simulate_noise(
+        horizon, paths_per_trace, seed, **({"gap_days": gap} if gap else {})
+    )
+    noise = np.asarray(noise, dtype=float)
     if noise.shape != (paths_per_trace, horizon):
         raise LoadcoreError(
             f"the model returned error paths of shape {noise.shape}",
@@ -503,6 +516,7 @@ def ensemble_forecast(
     model,
     *,
     days: int = 30,
+    start=None,
     shift_days: int = DEFAULT_SHIFT_DAYS,
     warming_c: float = 0.0,
     paths_per_trace: int = 200,
@@ -514,7 +528,7 @@ def ensemble_forecast(
     blend_weight: float = 0.0,
     progress: ProgressFn | None = None,
 ) -> EnsembleResult:
-    """Weather-ensemble forecast for the days right after the model's history.
+    """Weather-ensemble forecast for a window of days after the model's history.
 
     Temperature traces from the model's own history (:func:`temperature_traces`), the model's
     error paths added to each (:func:`pool_trace_paths`), all paths pooled into one predictive
@@ -524,7 +538,11 @@ def ensemble_forecast(
     ----------
     model : FittedModel
     days : int
-        Window length, starting the day after the history ends.
+        Window length, days (1 to :data:`loadcore.scenario.MAX_DAYS`).
+    start : date-like, optional
+        First day of the window: from the day after the history ends (the default) to
+        :data:`loadcore.scenario.MAX_LEAD_MONTHS` months after it. The error paths run through
+        the gap before it.
     shift_days, warming_c, blend_path, blend_weight
         As for :func:`temperature_traces` (°C).
     paths_per_trace : int
@@ -561,7 +579,12 @@ def ensemble_forecast(
                 fix="Give a level such as 2500",
             )
 
-    start = pd.Timestamp(model.history_end).normalize() + pd.Timedelta(days=1)
+    end = pd.Timestamp(model.history_end).normalize()
+    if start is None:
+        start = end + pd.Timedelta(days=1)
+    start = _timestamp(start, "start")
+    check_start(start, end, "weather ensemble window")
+    check_length(_check_int(days, "days", 1), "weather ensemble window")
     traces = temperature_traces(
         model.history,
         start,

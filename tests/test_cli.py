@@ -447,14 +447,19 @@ def test_forecast_in_fahrenheit_subprocess(fitted, tmp_path):
 
 
 @pytest.mark.slow
-def test_forecast_wrong_start_names_the_expected_date(fitted, tmp_path, capsys):
+def test_forecast_early_start_names_the_allowed_dates(fitted, tmp_path, capsys):
     scen, _, start = _scenario_file(tmp_path, fitted["out"])
     text = scen.read_text().splitlines()
-    late = tmp_path / "late.csv"
-    late.write_text("\n".join([text[0], *text[2:]]) + "\n")
-    assert main(["forecast", str(fitted["out"]), str(late), "--out", str(tmp_path / "f.csv")]) == 1
+    early = tmp_path / "early.csv"
+    first = pd.Timestamp(start) - pd.Timedelta(days=1)
+    moved = [
+        f"{first + pd.Timedelta(days=i):%Y-%m-%d}," + row.split(",", 1)[1]
+        for i, row in enumerate(text[1:])
+    ]
+    early.write_text("\n".join([text[0], *moved]) + "\n")
+    assert main(["forecast", str(fitted["out"]), str(early), "--out", str(tmp_path / "f.csv")]) == 1
     line = _one_error_line(capsys.readouterr().err)
-    assert f"start the scenario on {start}".lower() in line.lower()
+    assert f"start the scenario on a day from {start} to".lower() in line.lower()
     blank = tmp_path / "blank.csv"
     rows = text[:]
     rows[5] = rows[5].split(",")[0] + ",,"

@@ -222,7 +222,7 @@ def test_scenario_reader_refuses_bad_temperatures(temps, unit):
 
 
 @settings(max_examples=15, deadline=None)
-@given(days=st.integers(min_value=91, max_value=20_000))
+@given(days=st.integers(min_value=93, max_value=20_000))
 def test_scenario_reader_refuses_huge_horizons(days):
     scenario = pytest.importorskip("loadcore.scenario")
     dates = pd.date_range("2031-01-01", periods=days, freq="D")

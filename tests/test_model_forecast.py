@@ -31,15 +31,22 @@ def test_heat_wave_days_above_the_range_are_flagged(demo_model, heat_wave_scenar
     assert (f["median"] < f["mean"]).all()
 
 
-def test_scenario_must_start_the_day_after_the_history(demo_model):
-    late = demo_model.history_end + pd.Timedelta(days=3)
-    sc = Scenario("late", pd.date_range(late, periods=5, freq="D"), np.full(5, 20.0))
-    with pytest.raises(ScenarioError, match="Start the scenario on"):
-        demo_model.forecast(sc)
+def test_scenario_must_start_inside_the_window_limits(demo_model):
+    """A window starts from the day after the history to 24 months after it; outside that the
+    message names both limits."""
+    end = demo_model.history_end
+    too_far = end + pd.DateOffset(months=24) + pd.Timedelta(days=1)
+    early = end - pd.Timedelta(days=2)
+    for first in (too_far, early):
+        sc = Scenario("off", pd.date_range(first, periods=5, freq="D"), np.full(5, 20.0))
+        with pytest.raises(ScenarioError, match="Start the scenario on a day from") as info:
+            demo_model.forecast(sc)
+        assert f"{end + pd.Timedelta(days=1):%Y-%m-%d}" in str(info.value)
+        assert f"{end + pd.DateOffset(months=24):%Y-%m-%d}" in str(info.value)
     start = demo_model.history_end + pd.Timedelta(days=1)
     # A scenario is checked once, when it is built; the model checks only what needs it.
-    with pytest.raises(ScenarioError, match="90 days"):
-        Scenario("long", pd.date_range(start, periods=91, freq="D"), np.full(91, 20.0))
+    with pytest.raises(ScenarioError, match="more than the 92"):
+        Scenario("long", pd.date_range(start, periods=93, freq="D"), np.full(93, 20.0))
     with pytest.raises(ScenarioError, match="missing or not a number"):
         Scenario("blank", pd.date_range(start, periods=3, freq="D"), np.array([20.0, np.nan, 21]))
     odd = Scenario(
@@ -72,7 +79,7 @@ def test_the_model_checks_only_what_needs_the_model(demo_model):
     assert len(demo_model.forecast(longest).frame) == MAX_DAYS
     with pytest.raises(ScenarioError, match="starts on"):
         demo_model.forecast(
-            make_scenario("late", constant_path(start + pd.Timedelta(days=1), 3, 15.0))
+            make_scenario("early", constant_path(start - pd.Timedelta(days=1), 3, 15.0))
         )
     with pytest.raises(ScenarioError, match="not seen in the fitted history"):
         demo_model.forecast(

@@ -37,16 +37,17 @@ def test_make_scenario_builds_a_frozen_scenario():
 
 
 def test_make_scenario_wrong_start_names_the_expected_date():
-    path = constant_path("2026-07-03", 5, 30.0)
+    path = constant_path("2028-07-03", 5, 30.0)
     with pytest.raises(ScenarioError) as info:
         make_scenario("late", path, model_end="2026-06-30")
     assert "2026-07-01" in str(info.value)
-    assert "2026-07-03" in str(info.value)
+    assert "2028-06-30" in str(info.value)
+    assert "2028-07-03" in str(info.value)
 
 
 def test_make_scenario_horizon_limits():
     make_scenario("longest", constant_path("2026-07-01", MAX_DAYS, 20.0))
-    with pytest.raises(ScenarioError, match="more than the 90"):
+    with pytest.raises(ScenarioError, match="more than the 92"):
         make_scenario("too long", constant_path("2026-07-01", MAX_DAYS + 1, 20.0))
     with pytest.raises(ScenarioError, match="no days"):
         make_scenario("empty", pd.Series([], index=pd.DatetimeIndex([]), dtype=float))
@@ -183,10 +184,10 @@ def test_make_scenario_and_the_constructor_agree():
 
 def test_one_length_limit():
     """MAX_DAYS of the scenario package is the only horizon limit; the model has none of its own."""
-    assert loadcore.scenario.MAX_DAYS == 90
+    assert loadcore.scenario.MAX_DAYS == 92
     assert not any("MAX_HORIZON" in name for name in dir(loadcore.model))
-    with pytest.raises(ScenarioError, match="more than the 90"):
-        make_scenario("long", constant_path("2026-07-01", 91, 20.0), max_days=200)
+    with pytest.raises(ScenarioError, match="more than the 92"):
+        make_scenario("long", constant_path("2026-07-01", 93, 20.0), max_days=200)
 
 
 def test_blank_day_types_mean_the_calendar_in_one_place():
@@ -204,6 +205,9 @@ def test_blank_day_types_mean_the_calendar_in_one_place():
 def test_check_start_is_the_rule_of_the_window_position():
     scen = Scenario("s", JULY, np.full(5, 20.0))
     scen.check_start("2026-06-30")
-    with pytest.raises(ScenarioError, match="Start the scenario on 2026-06-21") as info:
-        scen.check_start(pd.Timestamp("2026-06-20"))
-    assert "2026-06-20" in str(info.value)
+    scen.check_start("2024-07-01")  # exactly 24 months before: the latest start
+    with pytest.raises(ScenarioError, match="from 2024-07-01 to 2026-06-30") as info:
+        scen.check_start(pd.Timestamp("2024-06-30"))
+    assert "more than 24 months" in str(info.value)
+    with pytest.raises(ScenarioError, match="from 2026-07-03 to 2028-07-02"):
+        scen.check_start(pd.Timestamp("2026-07-02"))

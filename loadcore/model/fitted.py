@@ -32,6 +32,7 @@ from ..calendar import CalendarSpec, day_types
 from ..errors import ModelError, ScenarioError
 from ..history import History
 from ..scenario import Scenario
+from ..scenario.values import gap_days as window_gap_days
 from . import forecast as propagation
 from . import model_file, wording
 from .diagnostics import ACF_MAX_LAG, Diagnostics, diagnose
@@ -40,7 +41,7 @@ from .orders import SHOCK_VARIANCE, DifferencingDecision, Orders
 from .response import ResponseComparison, ResponseFit
 from .settings import FitSettings
 from .statespace import EndState, run_filter
-from .terms import design_matrix, model_response
+from .terms import DAYS_PER_YEAR, design_matrix, model_response
 
 
 def _frozen(values: Any) -> np.ndarray:
@@ -266,19 +267,35 @@ class FittedModel:
         scenario.check_start(self.history_end)
         return scenario.dates, scenario.temperature_c, self.scenario_day_types(scenario)
 
+    def window_gap(self, scenario: Scenario) -> int:
+        """Days between the history's end and the scenario's window (0 when it starts the day
+        after the history); the error process is carried through them."""
+        return window_gap_days(scenario.start, self.history_end)
+
+    def growth_months(self, scenario: Scenario) -> float:
+        """How far past the history's end the growth term is carried at the scenario's last
+        day, months of 30.44 days (0 for a model without a growth term)."""
+        if "trend_years" not in self.columns:
+            return 0.0
+        days = (pd.Timestamp(scenario.end) - self.history_end).days
+        return max(0.0, days / (DAYS_PER_YEAR / 12.0))
+
     def linear_predictor(self, scenario: Scenario) -> np.ndarray:
         """The regression part x'beta for each scenario day, model scale."""
         dates, temps, types = self._scenario_inputs(scenario)
         return self.regressors(dates, temps, types) @ self.beta
 
     # ---- the error process and forecasts --------------------------------------------------
-    def simulate_noise(self, horizon: int, n_paths: int, seed: int | None = 0) -> np.ndarray:
+    def simulate_noise(
+        self, horizon: int, n_paths: int, seed: int | None = 0, *, gap_days: int = 0
+    ) -> np.ndarray:
         """Error paths from the end of the history, shape (n_paths, horizon), model scale.
 
         The error process does not depend on temperature, so one set of paths serves every
-        temperature trace.
+        temperature trace. ``gap_days`` days between the history and the window are simulated
+        and dropped (a far window).
         """
-        return propagation.simulate_noise(self.end_state, horizon, n_paths, seed)
+        return propagation.simulate_noise(self.end_state, horizon, n_paths, seed, gap_days)
 
     @property
     def coefficient_covariance(self) -> np.ndarray:
@@ -292,7 +309,7 @@ class FittedModel:
         Each path draws the error process and the regression coefficients (from their
         covariance), as the analytic intervals of :meth:`forecast` count both."""
         lin = self.linear_predictor(scenario)
-        noise = self.simulate_noise(len(lin), n_paths, seed)
+        noise = self.simulate_noise(len(lin), n_paths, seed, gap_days=self.window_gap(scenario))
         noise += self.coefficient_draws(scenario, n_paths, seed)
         return self.to_demand(lin[None, :] + noise)
 
@@ -305,20 +322,28 @@ class FittedModel:
         dates, temps, types = self._scenario_inputs(scenario)
         X = self.regressors(dates, temps, types)
         return propagation.coefficient_paths(
-            self.end_state, X, self.coefficient_covariance, n_paths, seed
+            self.end_state, X, self.coefficient_covariance, n_paths, seed, self.window_gap(scenario)
         )
 
     def forecast(self, scenario: Scenario, levels: Sequence[float] = (80, 95)) -> Forecast:
-        """Forecast a scenario: mean, median, prediction intervals and range flags per day."""
+        """Forecast a scenario: mean, median, prediction intervals and range flags per day.
+
+        The window may start on any day from the day after the history's end to
+        :data:`loadcore.scenario.values.MAX_LEAD_MONTHS` months after it: the error process
+        is carried through the gap (which needs no temperatures), so the intervals widen with
+        the distance as the error model says; day types come from the calendar of the
+        window's own dates; a growth term is extrapolated (``Forecast.growth_months``).
+        """
         levels = interval_levels.parse_levels(levels, where="interval levels")
         dates, temps, types = self._scenario_inputs(scenario)
+        gap = self.window_gap(scenario)
         X = self.regressors(dates, temps, types)
         lin = X @ self.beta
-        noise_mean, noise_var = propagation.noise_moments(self.end_state, len(dates))
+        noise_mean, noise_var = propagation.noise_moments(self.end_state, len(dates), gap)
         # The estimated coefficients add their own spread (a forecast from estimated
         # parameters; Goldberger, 1962).
         noise_var = noise_var + propagation.coefficient_variance(
-            self.end_state, X, self.coefficient_covariance
+            self.end_state, X, self.coefficient_covariance, gap
         )
         frame = propagation.forecast_frame(
             dates=dates,
@@ -338,6 +363,8 @@ class FittedModel:
             demand_unit=self.demand_unit,
             temperature_range_c=self.temperature_range_c,
             note=texts.INTERVAL_CAUTION,
+            gap_days=gap,
+            growth_months=round(self.growth_months(scenario), 1),
         )
 
     def fitted(self) -> pd.Series:

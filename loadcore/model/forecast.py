@@ -5,6 +5,11 @@ matrices (:class:`loadcore.model.statespace.EndState`) are propagated by the Kal
 equations a_{h+1} = T a_h, P_{h+1} = T P_h T' + R Q R' (Durbin and Koopman, 2012, section 4.3),
 and error paths are simulated from the same matrices. That is why a loaded model forecasts bit
 for bit like the fitted one.
+
+A window may start after a gap of ``skip`` days after the history's end (a July window from a
+history ending in November): the error process is propagated through the gap (no temperatures
+are needed for it, the regression part needs only the window's own days) and only the window's
+days are kept, so intervals widen with the distance as the error model says.
 """
 
 from __future__ import annotations
@@ -33,6 +38,9 @@ class Forecast:
     adjusted, exp(mu + sigma^2/2) for a log model), ``median`` (exp(mu)), ``lower_L`` and
     ``upper_L`` for every level L, ``out_of_range`` (bool), ``out_of_range_by_c`` (°C beyond the
     fitted range, 0 inside) and ``sparse_temperature`` (inside the range, thinly observed).
+    ``gap_days`` is the number of days between the history's end and the window (0 when the
+    window starts the day after); ``growth_months`` how far past the history's end the growth
+    term is carried at the window's last day, months (0 for a model without one).
     """
 
     frame: pd.DataFrame
@@ -41,19 +49,29 @@ class Forecast:
     demand_unit: str
     temperature_range_c: tuple[float, float]
     note: str
+    gap_days: int = 0
+    growth_months: float = 0.0
 
     def warnings(self, temp_unit: units.Unit = "C") -> list[str]:
         """Plain messages for every day outside the fitted temperature range or thinly observed,
-        with temperatures in ``temp_unit``."""
-        return texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
+        with temperatures in ``temp_unit``, and the growth note of a far window (its growth
+        term carried more than :data:`loadcore.texts.GROWTH_NOTE_MONTHS` months on)."""
+        out = texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
+        if self.growth_months > texts.GROWTH_NOTE_MONTHS:
+            out.append(texts.growth_note(self.growth_months))
+        return out
 
 
-def noise_moments(state: EndState, horizon: int) -> tuple[np.ndarray, np.ndarray]:
-    """Mean and variance of the error process on each of the next ``horizon`` days."""
+def noise_moments(state: EndState, horizon: int, skip: int = 0) -> tuple[np.ndarray, np.ndarray]:
+    """Mean and variance of the error process on each of ``horizon`` days that start ``skip``
+    days after the day after the history's end (model scale)."""
     a, P = state.mean.copy(), state.covariance.copy()
     T, Z, R = state.transition, state.observation, state.selection
     H = state.observation_variance
     RQR = R @ state.shock_covariance @ R.T
+    for _ in range(int(skip)):
+        a = T @ a
+        P = T @ P @ T.T + RQR
     mean = np.empty(horizon)
     var = np.empty(horizon)
     for h in range(horizon):
@@ -64,7 +82,7 @@ def noise_moments(state: EndState, horizon: int) -> tuple[np.ndarray, np.ndarray
     return mean, var
 
 
-def effective_regressors(state: EndState, X_future: np.ndarray) -> np.ndarray:
+def effective_regressors(state: EndState, X_future: np.ndarray, skip: int = 0) -> np.ndarray:
     """How each forecast day depends on the estimated regression coefficients, (horizon, m).
 
     The forecast on day h is ``x_h' beta + Z T^(h-1) (a(y) - W beta)`` (``W`` the state's
@@ -73,6 +91,7 @@ def effective_regressors(state: EndState, X_future: np.ndarray) -> np.ndarray:
     origin the filtered errors take back much of a wrong level, far from it the full ``x_h``
     counts (Goldberger, 1962, for the best linear unbiased predictor with estimated
     coefficients). Model files that predate the weights get zeros: they forecast as they did.
+    The window's first row is day ``skip + 1`` after the history's end.
     """
     X_future = np.atleast_2d(np.asarray(X_future, float))
     W = state.regression_weights
@@ -80,6 +99,8 @@ def effective_regressors(state: EndState, X_future: np.ndarray) -> np.ndarray:
         return np.zeros_like(X_future)
     out = np.empty_like(X_future)
     row = state.observation.copy()  # Z T^(h-1), starting with h = 1
+    for _ in range(int(skip)):
+        row = row @ state.transition
     for h in range(X_future.shape[0]):
         out[h] = X_future[h] - (row @ W)[0]
         row = row @ state.transition
@@ -87,11 +108,11 @@ def effective_regressors(state: EndState, X_future: np.ndarray) -> np.ndarray:
 
 
 def coefficient_variance(
-    state: EndState, X_future: np.ndarray, coefficient_covariance: np.ndarray
+    state: EndState, X_future: np.ndarray, coefficient_covariance: np.ndarray, skip: int = 0
 ) -> np.ndarray:
     """Variance that the estimated regression coefficients add to each forecast day,
     ``g_h' Cov(beta) g_h`` (see :func:`effective_regressors`), model scale."""
-    G = effective_regressors(state, X_future)
+    G = effective_regressors(state, X_future, skip)
     return np.einsum("hi,ij,hj->h", G, np.asarray(coefficient_covariance, float), G)
 
 
@@ -101,20 +122,24 @@ def coefficient_paths(
     coefficient_covariance: np.ndarray,
     n_paths: int,
     seed: int | None,
+    skip: int = 0,
 ) -> np.ndarray:
     """Draws of ``g_h' (beta* - beta_hat)``, beta* ~ N(beta_hat, Cov(beta)), shape
     (n_paths, horizon): the forecast's spread from the estimated coefficients, one draw of
     the coefficients per path."""
     rng = np.random.default_rng(None if seed is None else [int(seed), 1])
-    G = effective_regressors(state, X_future)
+    G = effective_regressors(state, X_future, skip)
     C = np.asarray(coefficient_covariance, float)
     vals, vecs = np.linalg.eigh((C + C.T) / 2)
     L = vecs * np.sqrt(np.clip(vals, 0, None))
     return (G @ L @ rng.standard_normal((C.shape[0], n_paths))).T
 
 
-def simulate_noise(state: EndState, horizon: int, n_paths: int, seed: int | None) -> np.ndarray:
-    """Error paths from the end of the history, shape (n_paths, horizon), model scale."""
+def simulate_noise(
+    state: EndState, horizon: int, n_paths: int, seed: int | None, skip: int = 0
+) -> np.ndarray:
+    """Error paths from the end of the history, shape (n_paths, horizon), model scale; the
+    first ``skip`` days after the history (a gap before the window) are simulated and dropped."""
     rng = np.random.default_rng(seed)
     T, Z, R = state.transition, state.observation, state.selection
     k = len(state.mean)
@@ -124,11 +149,15 @@ def simulate_noise(state: EndState, horizon: int, n_paths: int, seed: int | None
     qv, qe = np.linalg.eigh(state.shock_covariance)
     LQ = R @ (qe * np.sqrt(np.clip(qv, 0, None)))
     h_sd = math.sqrt(max(float(state.observation_variance[0, 0]), 0.0))
+    skip = int(skip)
     out = np.empty((n_paths, horizon))
-    for h in range(horizon):
-        out[:, h] = (Z @ a)[0]
-        if h_sd:
-            out[:, h] += h_sd * rng.standard_normal(n_paths)
+    for h in range(skip + horizon):
+        if h >= skip:
+            out[:, h - skip] = (Z @ a)[0]
+            if h_sd:
+                out[:, h - skip] += h_sd * rng.standard_normal(n_paths)
+        elif h_sd:
+            rng.standard_normal(n_paths)  # the gap's draws, so a window's paths continue the gap's
         a = T @ a + LQ @ rng.standard_normal((LQ.shape[1], n_paths))
     return out
 

@@ -4,6 +4,8 @@
   :func:`make_scenario` (a path and day types to a Scenario);
 - :mod:`~loadcore.scenario.values`: the rules a scenario must meet (one place each), among them
   :data:`MAX_DAYS`, the one length limit of scenarios and forecasts;
+- :mod:`~loadcore.scenario.windows`: where a window may lie (:func:`window_limits`) and the
+  quick choices of its start (:func:`window_starts`);
 - :mod:`~loadcore.scenario.paths`: the path builders;
 - :mod:`~loadcore.scenario.definition`: the JSON scenario definition;
 - :mod:`~loadcore.scenario.csv_files`: scenario CSV files (°F only at this edge).
@@ -21,16 +23,25 @@ from .paths import (
     seasonal_normal_path,
     shift_path,
 )
-from .values import MAX_DAYS, PLAUSIBLE_MAX_C, PLAUSIBLE_MIN_C, fill_blank_day_types
+from .values import (
+    MAX_DAYS,
+    MAX_LEAD_MONTHS,
+    PLAUSIBLE_MAX_C,
+    PLAUSIBLE_MIN_C,
+    fill_blank_day_types,
+)
+from .windows import WindowChoice, window_limits, window_starts
 
 __all__ = [
     "DEFINITION_KIND",
     "DEFINITION_VERSION",
     "MAX_DAYS",
+    "MAX_LEAD_MONTHS",
     "NORMAL_WINDOW_HALF_DAYS",
     "PLAUSIBLE_MAX_C",
     "PLAUSIBLE_MIN_C",
     "Scenario",
+    "WindowChoice",
     "cold_snap",
     "constant_path",
     "copy_period",
@@ -41,5 +52,7 @@ __all__ = [
     "same_days_after",
     "seasonal_normal_path",
     "shift_path",
+    "window_limits",
+    "window_starts",
     "write_scenario_csv",
 ]

@@ -91,8 +91,9 @@ class Scenario:
         return pd.Series(self.temperature_c.copy(), index=self.dates, name="temperature_c")
 
     def check_start(self, history_end: Any) -> None:
-        """Raise ScenarioError unless the scenario starts the day after ``history_end`` (the
-        last day of a model's history)."""
+        """Raise ScenarioError unless the scenario starts between the day after
+        ``history_end`` (the last day of a model's history) and
+        :data:`~loadcore.scenario.values.MAX_LEAD_MONTHS` months after it."""
         values.check_start(self.start, history_end, f"scenario {quote(self.name)}")
 
     def day_types_with(self, calendar_types: Sequence[str]) -> tuple[str, ...]:
@@ -223,7 +224,8 @@ def make_scenario(
     day_types : sequence of str or pd.Series, optional
         One day type per date; None, "" or NaN means "from the model's calendar" for that date.
     model_end : date-like, optional
-        Last date of the model's history. When given the scenario must start the day after
+        Last date of the model's history. When given the scenario must start from the day
+        after it to :data:`~loadcore.scenario.values.MAX_LEAD_MONTHS` months after it
         (:meth:`Scenario.check_start`, the check a model makes again before it forecasts).
     max_days : int
         Longest allowed horizon, days: :data:`MAX_DAYS` unless a caller wants fewer.

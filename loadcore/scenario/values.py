@@ -4,6 +4,9 @@ Everything that decides whether a scenario is acceptable without a model is here
 :class:`~loadcore.scenario.Scenario` constructor (which checks every scenario once), by the path
 builders and by the file readers. The one rule that needs a model, where the scenario may start
 relative to the history's end, is :func:`check_start`, which the model calls.
+
+The window limits have one owner each, here: :data:`MAX_DAYS` (its length) and
+:data:`MAX_LEAD_MONTHS` (how far after the history's end it may start).
 """
 
 from __future__ import annotations
@@ -23,9 +26,13 @@ from ..errors import InputError, ScenarioError, quote
 PLAUSIBLE_MIN_C = units.PLAUSIBLE_MIN_C
 PLAUSIBLE_MAX_C = units.PLAUSIBLE_MAX_C
 
-#: Longest scenario, days (product specification): the one length limit of scenarios and
-#: forecasts.
-MAX_DAYS = 90
+#: Longest scenario, days (product specification: a full quarter of 92 days at most): the one
+#: length limit of scenarios and forecasts.
+MAX_DAYS = 92
+
+#: Latest start of a scenario window, months after the history's last day (product
+#: specification: any window of the coming two years).
+MAX_LEAD_MONTHS = 24
 
 
 def iso(ts: Any) -> str:
@@ -259,14 +266,44 @@ def fill_blank_day_types(
     )
 
 
-def check_start(start: Any, history_end: Any, where: str) -> None:
-    """The scenario must start the day after the model's history ends (the one rule of the
-    window's position; it needs the model's history end, so the model calls it)."""
+def earliest_start(history_end: Any) -> pd.Timestamp:
+    """The first day a scenario may start: the day after the history's last day."""
+    return parse_date(history_end, "model end") + pd.Timedelta(days=1)
+
+
+def latest_start(history_end: Any) -> pd.Timestamp:
+    """The last day a scenario may start: :data:`MAX_LEAD_MONTHS` months after the history's
+    last day (the same day of the month, or the month's last day when it has no such day)."""
     end = parse_date(history_end, "model end")
-    expected = end + pd.Timedelta(days=1)
-    if pd.Timestamp(start) != expected:
+    return pd.Timestamp(end + pd.DateOffset(months=MAX_LEAD_MONTHS))
+
+
+def gap_days(start: Any, history_end: Any) -> int:
+    """Days between the history's last day and a window starting on ``start`` (0 when the
+    window starts the day after the history ends)."""
+    first = parse_date(start, "window start")
+    return int((first - earliest_start(history_end)).days)
+
+
+def check_start(start: Any, history_end: Any, where: str) -> None:
+    """The scenario must start between the day after the model's history ends and
+    :data:`MAX_LEAD_MONTHS` months after it (the one rule of the window's position; it needs
+    the model's history end, so the model calls it)."""
+    end = parse_date(history_end, "model end")
+    first, last = earliest_start(end), latest_start(end)
+    start = parse_date(start, where)
+    if start < first:
         raise ScenarioError(
-            f"The scenario starts on {iso(start)} but the model's history ends on {iso(end)}",
+            f"The scenario starts on {iso(start)}, but the model's history runs to {iso(end)}",
             where=f"{where}, first date",
-            fix=f"Start the scenario on {iso(expected)}",
+            fix=f"Start the scenario on a day from {iso(first)} to {iso(last)} "
+            f"(at most {MAX_LEAD_MONTHS} months after the history)",
+        )
+    if start > last:
+        raise ScenarioError(
+            f"The scenario starts on {iso(start)}, more than {MAX_LEAD_MONTHS} months after "
+            f"the model's history ends on {iso(end)}",
+            where=f"{where}, first date",
+            fix=f"Start the scenario on a day from {iso(first)} to {iso(last)}, or refit the "
+            "model on a newer history",
         )
