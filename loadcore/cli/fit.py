@@ -11,6 +11,7 @@ from loadcore.cli.common import (
     ProgressBar,
     history_options,
     history_settings,
+    number,
     require_file,
     require_output,
     say,
@@ -85,9 +86,24 @@ def add_model_options(parser: argparse.ArgumentParser) -> None:
     )
     parser.add_argument(
         "--response",
-        choices=("quadratic", "degree-days"),
+        choices=("quadratic", "degree-days", "auto"),
         default=None,
-        help="temperature response shape (quadratic)",
+        help="temperature response shape (quadratic); auto fits both with the same error model "
+        "and keeps the one with the lower AICc (degree-day bases estimated)",
+    )
+    parser.add_argument(
+        "--heating-base",
+        type=number,
+        default=None,
+        metavar="DEGREES",
+        help="degree-day heating base, in --temp-unit (18 °C)",
+    )
+    parser.add_argument(
+        "--cooling-base",
+        type=number,
+        default=None,
+        metavar="DEGREES",
+        help="degree-day cooling base, in --temp-unit (24 °C)",
     )
     parser.add_argument(
         "--override",
@@ -117,6 +133,11 @@ def fit_settings(args: argparse.Namespace):
         terms["response"] = args.response.replace("-", "_")
     if args.annual_harmonics is not None:
         terms["annual_harmonics"] = args.annual_harmonics
+    unit = shown_unit(args)
+    for option, field in (("heating_base", "heating_base_c"), ("cooling_base", "cooling_base_c")):
+        value = getattr(args, option, None)
+        if value is not None:
+            terms[field] = float(units.from_unit(value, unit))
     fit_kw: dict[str, Any] = {}
     if getattr(args, "search", None) is not None:
         fit_kw["search"] = args.search
@@ -150,7 +171,30 @@ def model_summary(model: Any, out: str, unit: units.Unit) -> dict[str, Any]:
     }
     if unit == "F":
         summary["temperature_range_f"] = [round(float(units.c_to_f(v)), 2) for v in (low, high)]
+    comparison = model.response_comparison
+    if comparison is not None:
+        summary["temperature_response"] = {
+            "asked": comparison.asked,
+            "fitted": _response_summary(comparison.fitted, unit),
+            "other": _response_summary(comparison.other, unit),
+            "other_is_better": comparison.other_is_better,
+            "note": model.response_note(unit, medium="command"),
+        }
     return plainjson.to_plain(summary)
+
+
+def _response_summary(side: Any, unit: units.Unit) -> dict[str, Any]:
+    out: dict[str, Any] = {"response": side.response, "aicc": round(float(side.aicc), 2)}
+    if side.response == "degree_days":
+        letter = unit.lower()
+        out[f"heating_base_{letter}"] = round(
+            float(units.to_unit(side.terms.heating_base_c, unit)), 2
+        )
+        out[f"cooling_base_{letter}"] = round(
+            float(units.to_unit(side.terms.cooling_base_c, unit)), 2
+        )
+        out["bases_estimated"] = bool(side.bases_estimated)
+    return out
 
 
 def run(args: argparse.Namespace) -> int:
@@ -181,6 +225,7 @@ def run(args: argparse.Namespace) -> int:
         f"evaluated; estimation converged: {'yes' if summary['converged'] else 'NO'}.",
         texts.fitted_range_text(low, high, unit),
         model.describe_lowest_demand(unit),
+        *_response_lines(model, unit),
         "",
         "Coefficients:",
         table_text(model.coefficient_table(unit)),
@@ -195,6 +240,20 @@ def run(args: argparse.Namespace) -> int:
         )
     say("\n".join(lines))
     return 0
+
+
+def _response_lines(model: Any, unit: units.Unit) -> list[str]:
+    """Both responses' AICc, and the note when the other one is clearly better."""
+    from loadcore.model.wording import describe_comparison
+
+    comparison = model.response_comparison
+    if comparison is None:
+        return []
+    lines = [describe_comparison(comparison, unit)]
+    note = model.response_note(unit, medium="command")
+    if note:
+        lines.append(f"note: {note}")
+    return lines
 
 
 def add(sub: Any) -> None:

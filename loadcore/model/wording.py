@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 from .. import units
 from ..calendar import day_type_label
@@ -289,4 +290,21 @@ def response_note(
         f"where the model in use gives {demand(contrast.fitted_demand[0])}, and at the hottest, "
         f"{hot}, {demand(contrast.other_demand[1])} against {demand(contrast.fitted_demand[1])}; "
         f"{_switch(contrast, unit, medium)}."
+    )
+
+
+def describe_comparison(comparison: Any, unit: units.Unit = "C") -> str:
+    """Both responses' AICc in one line (a :class:`~loadcore.model.response.ResponseComparison`)."""
+
+    def side(fit: Any) -> str:
+        name = RESPONSE_NAMES[fit.response]
+        if fit.response == "degree_days":
+            how = "estimated" if fit.bases_estimated else "as set"
+            name += f" ({_bases(fit.terms, unit)}, {how})"
+        return f"{name} AICc {fit.aicc:,.1f}"
+
+    chosen = " (chosen by AICc)" if comparison.asked == "auto" else ""
+    return (
+        f"Temperature response in use{chosen}: {side(comparison.fitted)}; with the same error "
+        f"model the {side(comparison.other)}."
     )
