@@ -129,3 +129,24 @@ def test_meeting_brief_renders_offline_in_chromium(tmp_path):
     # history + 2 scenarios x (2 levels x 2 band edges + mean) + 1 out-of-range marker trace
     assert traces == 1 + 2 * 5 + 1
     assert "<script>window.__pwned=1</script>: mean" in legend
+
+
+def test_brief_says_when_the_other_response_is_better(demo_model, demo_history):
+    """On the demo (invented degree-day truth, demo_data/truth.json) the brief of a quadratic
+    model carries the one note that degree days fit better, as a caution beside the model
+    table, and the degree-day model's brief does not."""
+    import html as html_module
+
+    from loadcore.export import summarise_model
+    from loadcore.model import fit
+
+    summary = summarise_model(demo_model, temp_unit="C")
+    assert summary["Temperature response"].startswith("Temperature response in use")
+    text = _brief([make_forecast("base")], model_summary=summary)
+    note = html_module.escape(demo_model.response_note("C", medium="brief"))
+    assert f'<p class="caution" id="response-note">{note}</p>' in text
+    assert "refitting with the degree-day response (heating base 18 °C" in text
+    switched = fit(demo_history, demo_model.response_settings())
+    assert switched.settings.terms.response == "degree_days"
+    text = _brief([make_forecast("base")], model_summary=summarise_model(switched))
+    assert 'id="response-note"' not in text and "Temperature response in use" in text

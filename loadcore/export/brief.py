@@ -29,7 +29,7 @@ from loadcore.export.forecasts import (
     parse_demand_kind,
     scenario_names,
 )
-from loadcore.export.tables import comparison_summary, out_of_range_days
+from loadcore.export.tables import RESPONSE_NOTE_LABEL, comparison_summary, out_of_range_days
 from loadcore.version import __version__
 
 log = logging.getLogger(__name__)
@@ -217,6 +217,12 @@ def meeting_brief_html(
     model_html = (
         _table(["Item", "Value"], model_rows) if model_rows else "<p>No model summary given.</p>"
     )
+    response_note = model_summary.get(RESPONSE_NOTE_LABEL)
+    if response_note:
+        model_html = (
+            f'<p class="caution" id="response-note">{html.escape(str(response_note))}</p>'
+            + model_html
+        )
     if history.empty:
         history_text = "No recorded demand is drawn."
     else:

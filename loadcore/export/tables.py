@@ -281,7 +281,29 @@ def summarise_model(model: Any, temp_unit: str = "C") -> dict[str, str]:
             text = None
         if text:
             out["Error model in words"] = str(text)
+    out.update(_response_rows(model, temp_unit))
     fingerprint = getattr(model, "fingerprint", None)
     if fingerprint:
         out["Model fingerprint"] = str(fingerprint)[:16]
+    return out
+
+
+#: The model-summary label of the note that the other temperature response is clearly better;
+#: the brief also shows it as a caution beside the model table.
+RESPONSE_NOTE_LABEL = "Better temperature response"
+
+
+def _response_rows(model: Any, temp_unit: str) -> dict[str, str]:
+    """Both temperature responses' AICc and, when the other is clearly better, the note."""
+    from loadcore.model.wording import describe_comparison
+
+    comparison = getattr(model, "response_comparison", None)
+    note_fn = getattr(model, "response_note", None)
+    if comparison is None or not callable(note_fn):
+        return {}
+    unit = units.parse_unit(temp_unit)
+    out = {"Temperature response": describe_comparison(comparison, unit)}
+    note = note_fn(unit, medium="brief")
+    if note:
+        out[RESPONSE_NOTE_LABEL] = note
     return out
