@@ -123,9 +123,13 @@ def response_figure(
     to_unit: Convert = _identity,
     unit: str = "°C",
     demand_unit: str = "MW",
+    curve_name: str = "fitted response (reference day type)",
+    other_curve_mw: np.ndarray | None = None,
+    other_curve_name: str = "other response (reference day type)",
 ) -> go.Figure:
     """Demand against temperature coloured by day type, with the fitted response and range
-    (``curve_mw`` and the demand axis in ``demand_unit``, the history's own unit)."""
+    (``curve_mw`` and the demand axis in ``demand_unit``, the history's own unit), and the other
+    temperature response's curve ``other_curve_mw`` (dashed, at ``curve_c``) when given."""
     fig = go.Figure()
     types = day_types.reindex(frame.index)
     colours = palette.day_type_colours(_ordered_types(types))
@@ -159,7 +163,17 @@ def response_figure(
                 y=np.asarray(curve_mw, dtype=float),
                 mode="lines",
                 line={"color": palette.INK, "width": 3},
-                name="fitted response (reference day type)",
+                name=curve_name,
+            )
+        )
+    if curve_c is not None and other_curve_mw is not None:
+        fig.add_trace(
+            go.Scatter(
+                x=to_unit(np.asarray(curve_c, dtype=float)),
+                y=np.asarray(other_curve_mw, dtype=float),
+                mode="lines",
+                line={"color": palette.MUTED, "width": 3, "dash": "dash"},
+                name=other_curve_name,
             )
         )
     fig.update_xaxes(title_text=f"daily maximum temperature, {unit}")

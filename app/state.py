@@ -53,6 +53,10 @@ Session keys (the only ones shared between pages):
     dict, widget key -> ``{"c": value, "unit": unit shown, "put": number shown}``: every
     temperature typed into a temperature input (:func:`typed_temperature`), kept in °C (or as a
     °C difference), so the unit switch converts what the input shows and never the value.
+``fit_form_terms``
+    The temperature settings the Model page's fit form is to show on its next run (set by
+    :func:`switch_response` after the one-click switch of response, applied and removed by
+    :func:`sync_fit_form` before the form is drawn).
 ``day_edits``
     The day-by-day table's edits on the Build-a-scenario page, in °C, for the base path they
     were made on (:func:`day_editor_key`, :func:`day_edits`): they survive the unit switch, which
@@ -98,6 +102,7 @@ LIBRARY_MESSAGE = "library_message"
 COMPARE = "compare_choice"
 TYPED = "typed_temperatures"
 DAY_EDITS = "day_edits"
+FIT_FORM_TERMS = "fit_form_terms"
 
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
@@ -708,3 +713,37 @@ def prepare_history_form(file_id: str, preview) -> None:
             session[key] = guess if guess in columns else (columns[0] if columns else "")
     if preview.unit_hint in ("C", "F"):
         session[HISTORY_UNIT_WIDGET] = preview.unit_hint
+
+
+# --------------------------------------------------------------------------------------------
+# The Model page's one-click switch of temperature response
+# --------------------------------------------------------------------------------------------
+
+#: The fit form's widgets for the temperature response and its temperatures (TermSpec fields).
+FIT_RESPONSE_WIDGET = "fit_response"
+FIT_TEMPERATURE_WIDGETS = {
+    "reference_temp_c": "fit_ref",
+    "heating_base_c": "fit_hdd",
+    "cooling_base_c": "fit_cdd",
+}
+
+
+def switch_response(fitted) -> None:
+    """Use ``fitted`` (the model refitted with the other temperature response) and have the fit
+    form show its temperature settings from the next run on (:func:`sync_fit_form`)."""
+    use_model(fitted)
+    st.session_state[FIT_FORM_TERMS] = fitted.settings.terms
+
+
+def sync_fit_form() -> None:
+    """Before the Model page's fit form is drawn: after a switch of response, put the new
+    response and its temperatures (kept in °C, shown in the display unit) into the form."""
+    session = st.session_state
+    terms = session.pop(FIT_FORM_TERMS, None)
+    if terms is None:
+        return
+    session[FIT_RESPONSE_WIDGET] = terms.response
+    store = session.setdefault(TYPED, {})
+    for field, key in FIT_TEMPERATURE_WIDGETS.items():
+        store[key] = {"c": float(getattr(terms, field)), "unit": None, "put": None}
+        session.pop(key, None)

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 import json
 
 from test_app_support import (
@@ -47,8 +48,8 @@ def test_results_are_the_models_own_words_and_tables():
     assert diag.verdict in verdicts
     if diag.ljung_box_pvalue < 0.05:
         assert any(diag.advice in m for m in markdown)
-    # residuals over time, ACF bars, histogram
-    assert len(at.get("plotly_chart")) == 3
+    # both temperature responses, residuals over time, ACF bars, histogram
+    assert len(at.get("plotly_chart")) == 4
     assert len(at.dataframe[-1].value) == len(model.candidates)
 
 
@@ -166,3 +167,35 @@ def test_no_public_holidays_can_be_chosen_and_fitted():
     assert "holiday" not in fitted.day_type_levels
     assert "holiday" in set(day_types(short.frame.index, CalendarSpec()))  # the US would have had
     assert at.radio(key="fit_holidays").value == "none"
+
+
+def test_model_page_advises_degree_days_and_switches_in_one_click():
+    """The demo's invented utility has a degree-day response (demo_data/truth.json): the page
+    of the quadratic demo model draws both response curves over the history, says in one
+    sentence that degree days fit better, and its button refits with degree days (bases
+    estimated) keeping every other setting; the form then shows the new response."""
+    model, _ = fitted_through_app()
+    at = new_app(page="pages/model_fit.py", model=model)
+    assert_no_exception(at)
+    note = model.response_note("C", medium="app")
+    assert note in texts(at, "warning")
+    assert any(m.startswith("Temperature response in use") for m in texts(at, "markdown"))
+    chart = next(
+        c for c in at.get("plotly_chart") if c.proto.id and "response_curves" in c.proto.id
+    )
+    figure = json.loads(chart.proto.spec)
+    names = [trace.get("name", "") for trace in figure["data"]]
+    assert "in use: smooth-curve (quadratic) response" in names
+    assert "other: degree-day response" in names
+    at.button(key="response_switch").click()
+    at.run(timeout=300)
+    assert_no_exception(at)
+    switched = at.session_state["model"]
+    other = model.response_comparison.other
+    assert switched.settings.terms == other.terms
+    assert switched.settings.terms.response == "degree_days"
+    assert dataclasses.replace(switched.settings, terms=model.settings.terms) == model.settings
+    assert at.radio(key="fit_response").value == "degree_days"
+    assert at.number_input(key="fit_hdd").value == round(other.terms.heating_base_c, 1)
+    assert at.number_input(key="fit_cdd").value == round(other.terms.cooling_base_c, 1)
+    assert not [w for w in texts(at, "warning") if w.startswith("The degree-day response")]

@@ -14,6 +14,8 @@ from loadcore.errors import LoadcoreError
 from loadcore.export import describe_orders
 from loadcore.files import check_upload_size
 from loadcore.model import FitSettings, TermSpec, load_model
+from loadcore.model.terms import RESPONSE_CHOICES
+from loadcore.model.wording import RESPONSE_NAMES, describe_comparison, switch_label
 
 st.title("Model")
 history = state.history()
@@ -36,6 +38,7 @@ def _holiday_code(spec) -> str:
 # --------------------------------------------------------------------------------------------
 # Settings
 # --------------------------------------------------------------------------------------------
+state.sync_fit_form()
 with st.form("fit_form", border=True):
     st.markdown("**Settings**")
     a, b, c = st.columns(3)
@@ -65,13 +68,16 @@ with st.form("fit_form", border=True):
     a, b, c = st.columns(3)
     response = a.radio(
         "Temperature response",
-        ["quadratic", "degree_days"],
-        index=0 if current.terms.response == "quadratic" else 1,
+        list(RESPONSE_CHOICES),
+        index=RESPONSE_CHOICES.index(current.terms.response),
         format_func=lambda r: {
             "quadratic": "smooth curve (quadratic)",
             "degree_days": "heating and cooling degree days",
+            "auto": "the better of the two by AICc (degree-day bases estimated)",
         }[r],
         key="fit_response",
+        help="Every fit also fits the other response with the same error model and shows both "
+        "below the results.",
     )
     harmonics = b.number_input(
         "Annual cycle terms (0 = none)",
@@ -219,6 +225,59 @@ c.metric("Estimation converged", "yes" if fitted.converged else "no")
 if not fitted.converged:
     st.warning("The estimation did not fully converge; try the thorough search or other settings.")
 st.markdown(fitted.describe_lowest_demand(temp_unit=state.temp_unit()))
+
+# --------------------------------------------------------------------------------------------
+# The temperature response beside the other one (same error model)
+# --------------------------------------------------------------------------------------------
+st.subheader("Temperature response")
+comparison = fitted.response_comparison
+curve_c = np.linspace(*fitted.temperature_range_c, 121)
+curve = fitted.response_curve(curve_c)
+if comparison is None:
+    st.caption(
+        "This model was saved before loadcore compared the two temperature responses; fit again "
+        "to see the other one beside it."
+    )
+else:
+    st.markdown(md(describe_comparison(comparison, state.temp_unit())))
+    note = fitted.response_note(state.temp_unit(), medium="app")
+    if note:
+        st.warning(md(note), icon=":material/lightbulb:")
+        if st.button(switch_label(comparison.other.response), key="response_switch"):
+            with st.spinner("Fitting again with the other temperature response..."):
+                try:
+                    switched = cache.fit_model(fitted.history, fitted.response_settings())
+                except LoadcoreError as exc:
+                    display.show_error(exc, "The model could not be fitted again")
+                    st.caption("The model in use is unchanged.")
+                else:
+                    state.switch_response(switched)
+                    st.rerun()
+st.caption(
+    "Lines: demand of a reference-type day at the end of the history under each response; "
+    "dots: the history's days; the band is the fitted temperature range."
+)
+st.plotly_chart(
+    theme=None,
+    figure_or_data=charts.response_figure(
+        fitted.history.frame,
+        fitted.calendar_types(fitted.history.frame.index),
+        curve_c=curve_c,
+        curve_mw=curve["demand"].to_numpy(dtype=float),
+        range_c=fitted.temperature_range_c,
+        to_unit=display.to_display,
+        unit=display.unit_symbol(),
+        demand_unit=fitted.demand_unit,
+        curve_name=f"in use: {RESPONSE_NAMES[fitted.settings.terms.response]}",
+        other_curve_mw=(
+            curve["other_demand"].to_numpy(dtype=float) if "other_demand" in curve else None
+        ),
+        other_curve_name=(
+            f"other: {RESPONSE_NAMES[comparison.other.response]}" if comparison else ""
+        ),
+    ),
+    key="response_curves",
+)
 
 st.markdown("**What each term means**")
 st.dataframe(
