@@ -219,6 +219,7 @@ def test_every_command_is_listed_and_has_one_handler_convention():
     assert set(sub.choices) == {
         "check",
         "fit",
+        "scenario",
         "forecast",
         "backtest",
         "ensemble",

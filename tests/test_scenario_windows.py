@@ -14,10 +14,17 @@ from loadcore.model import forecast as propagation
 from loadcore.scenario import (
     MAX_DAYS,
     MAX_LEAD_MONTHS,
+    Alignment,
     Scenario,
+    cold_snap,
     constant_path,
+    copy_period,
+    copy_same_days,
+    heat_wave,
     make_scenario,
+    same_days_source,
     seasonal_normal_path,
+    shift_path,
     window_limits,
     window_starts,
 )
@@ -179,3 +186,44 @@ def test_every_consumer_takes_a_far_window(demo_model, tmp_path):
     assert result.daily["date"].iloc[0] == july and len(result.daily) == 10
     with pytest.raises(ScenarioError, match="more than 24 months"):
         ensemble_forecast(demo_model, start=end + pd.DateOffset(months=25), days=10)
+
+
+def test_copy_the_same_days_of_last_year_by_date_or_by_weekday():
+    """A window from 1 July 2027 on a history ending 29 November 2026: by date it copies 1 July
+    2026 on; by weekday the copy moves to the nearest day of the same weekday (1 July 2027 is a
+    Thursday, 2 July 2026 too)."""
+    history = _history("2022-01-01", "2026-11-29")
+    temps = history.frame["temperature_c"]
+    by_date = copy_same_days(history, "2027-07-01", 10, Alignment.BY_DATE)
+    assert same_days_source(history, "2027-07-01", 10, Alignment.BY_DATE) == pd.Timestamp(
+        "2026-07-01"
+    )
+    np.testing.assert_array_equal(by_date.to_numpy(), temps["2026-07-01":"2026-07-10"].to_numpy())
+    source = same_days_source(history, "2027-07-01", 10, Alignment.BY_WEEKDAY)
+    assert source == pd.Timestamp("2026-07-02")
+    assert source.day_of_week == pd.Timestamp("2027-07-01").day_of_week
+    # Two years on, last year's days are not in the history yet: the latest year that has them.
+    assert same_days_source(history, "2028-11-20", 10, Alignment.BY_DATE) == pd.Timestamp(
+        "2026-11-20"
+    )
+    assert same_days_source(history, "2028-11-25", 10, Alignment.BY_DATE) == pd.Timestamp(
+        "2025-11-25"
+    )
+    with pytest.raises(ScenarioError, match="No earlier year of the history holds all"):
+        copy_same_days(_history("2026-01-01", "2026-11-29"), "2026-12-10", 10)
+    with pytest.raises(ScenarioError, match="Alignment.BY_DATE or Alignment.BY_WEEKDAY"):
+        copy_same_days(history, "2027-07-01", 10, "weekday")
+
+
+def test_the_builders_work_for_a_far_window(demo_model):
+    """Seasonal normal, heat wave, cold snap, copy and shift on a window 20 months out."""
+    start = demo_model.history_end + pd.DateOffset(months=20)
+    normal = seasonal_normal_path(demo_model.history, start, 30)
+    hot = heat_wave(normal, 41.0, length_days=8, ramp_days=1, start_day=5)
+    cold = cold_snap(normal, -5.0, length_days=4, ramp_days=1, start_day=20)
+    copied = copy_period(demo_model.history, "2025-07-01", start, 30)
+    warmer = shift_path(copied, 2.0)
+    for path in (normal, hot, cold, copied, warmer):
+        fc = demo_model.forecast(make_scenario("far", path, model_end=demo_model.history_end))
+        assert fc.frame["date"].iloc[0] == start and len(fc.frame) == 30
+    assert (hot.iloc[6:12] == 41.0).all()

@@ -4,6 +4,7 @@ Sub-commands::
 
     loadcore check HISTORY.csv
     loadcore fit HISTORY.csv --out MODEL.json
+    loadcore scenario MODEL.json --start DATE --days N --out SCENARIO.csv
     loadcore forecast MODEL.json SCENARIO.csv --out FORECAST.csv
     loadcore backtest HISTORY.csv
     loadcore ensemble MODEL.json --out ENSEMBLE.csv
@@ -29,7 +30,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from loadcore import texts
-from loadcore.cli import app, backtest, check, ensemble, fit, forecast, scenarios
+from loadcore.cli import app, backtest, check, ensemble, fit, forecast, scenario, scenarios
 from loadcore.cli.common import ProgressBar, clip, one_line
 from loadcore.errors import HistoryError, LoadcoreError
 from loadcore.version import __version__
@@ -37,7 +38,7 @@ from loadcore.version import __version__
 log = logging.getLogger(__name__)
 
 #: The sub-commands, in the order ``loadcore --help`` lists them.
-COMMANDS = (check, fit, forecast, backtest, ensemble, scenarios, app)
+COMMANDS = (check, fit, scenario, forecast, backtest, ensemble, scenarios, app)
 
 
 def _error_line(text: str) -> None:
@@ -106,6 +107,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     args_in = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in args_in
     args_in = [a for a in args_in if a != "--debug"]
+    if args_in[:1] == ["scenario"]:
+        args_in = scenario.join_signed_values(args_in)
     logging.basicConfig(
         level=logging.DEBUG if debug else logging.WARNING,
         format="%(levelname)s %(name)s: %(message)s",

@@ -58,14 +58,14 @@ def forecast_text(table: Any, unit: units.Unit) -> str:
 def run(args: argparse.Namespace) -> int:
     from loadcore.export import forecast_table, to_csv_bytes
     from loadcore.model import load_model
-    from loadcore.scenario import read_scenario_csv
+    from loadcore.scenario import read_scenario_file
 
     require_file(args.model, "model file")
     require_file(args.scenario, "scenario file")
     require_output(args.out, args.model, args.scenario)
     unit = args.temp_unit
     model = load_model(args.model)
-    scenario = read_scenario_csv(
+    scenario = read_scenario_file(
         args.scenario,
         temp_unit=unit,
         date_col=args.date_col,
@@ -100,7 +100,11 @@ def add(sub: Any) -> None:
         "file. " + texts.INTERVAL_CAUTION + " " + texts.PLANNING_CAUTION,
     )
     parser.add_argument("model", metavar="MODEL.json", help="a model saved by loadcore fit")
-    parser.add_argument("scenario", metavar="SCENARIO.csv", help="scenario CSV file")
+    parser.add_argument(
+        "scenario",
+        metavar="SCENARIO.csv",
+        help="scenario CSV file (date, temperature[, day_type]) or JSON scenario definition",
+    )
     parser.add_argument(
         "--out", required=True, metavar="FORECAST.csv", help="where to write the CSV"
     )

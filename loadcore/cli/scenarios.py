@@ -33,7 +33,7 @@ def _library(args: argparse.Namespace, read_only: bool = False):
 def run_save(args: argparse.Namespace) -> int:
     from loadcore.library import entry_from_forecast
     from loadcore.model import load_model
-    from loadcore.scenario import read_scenario_csv
+    from loadcore.scenario import read_scenario_file
 
     require_file(args.scenario_csv, "scenario file")
     files.refuse_overwriting_inputs(
@@ -47,7 +47,7 @@ def run_save(args: argparse.Namespace) -> int:
             fix="Choose another --name",
         )
     model = load_model(args.model)
-    scenario = read_scenario_csv(
+    scenario = read_scenario_file(
         args.scenario_csv, temp_unit=args.temp_unit, name=args.name, model_end=model.history_end
     )
     forecast = model.forecast(scenario)
@@ -150,7 +150,11 @@ def add(sub: Any) -> None:
         p.add_argument("--db", metavar="FILE", default=None, help="the library file")
 
     save = actions.add_parser("save", help="forecast a scenario file and store it")
-    save.add_argument("scenario_csv", metavar="SCENARIO.csv", help="date, temperature[, day_type]")
+    save.add_argument(
+        "scenario_csv",
+        metavar="SCENARIO.csv",
+        help="scenario CSV file (date, temperature[, day_type]) or JSON scenario definition",
+    )
     save.add_argument("--name", required=True, help="name in the library")
     save.add_argument("--model", required=True, metavar="MODEL.json", help="a saved model")
     add_db(save)

@@ -197,3 +197,70 @@ def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
         }
     )
     return frame.to_csv(index=False, lineterminator="\n")
+
+
+def is_definition(text: str) -> bool:
+    """Whether a scenario file's text is a JSON scenario definition rather than a CSV table
+    (its first non-blank character opens a JSON object; a CSV header cannot)."""
+    return text.lstrip("\ufeff \t\r\n").startswith("{")
+
+
+def read_scenario_file(
+    source: Any,
+    *,
+    temp_unit: str = "C",
+    date_col: str = "date",
+    temp_col: str = "temperature",
+    day_type_col: str = "day_type",
+    name: str | None = None,
+    model_end: Any = None,
+    max_days: int = MAX_DAYS,
+) -> Scenario:
+    """Read a scenario file: a CSV table (:func:`read_scenario_csv`) or the app's JSON scenario
+    definition (:mod:`loadcore.scenario.definition`), told apart by the content.
+
+    Parameters
+    ----------
+    source : path, file-like, bytes or str of text
+        The file.
+    temp_unit, date_col, temp_col, day_type_col
+        As for :func:`read_scenario_csv`; a definition names its columns itself and holds °C
+        (``temperature_c``), so these apply to CSV files only.
+    name : str, optional
+        Scenario name; by default the definition's own name, or the CSV file's name.
+    model_end : date-like, optional
+        Last date of the model's history (see :meth:`Scenario.check_start`).
+    max_days : int
+        Longest allowed horizon, days.
+
+    Returns
+    -------
+    Scenario
+    """
+    if hasattr(source, "read"):
+        source = source.read()
+    read = files.read_head(source, what="scenario file", n_bytes=HEAD_BYTES)
+    if not is_definition(read.text):
+        return read_scenario_csv(
+            source,
+            temp_unit=temp_unit,
+            date_col=date_col,
+            temp_col=temp_col,
+            day_type_col=day_type_col,
+            name=name,
+            model_end=model_end,
+            max_days=max_days,
+        )
+    if not read.complete:
+        raise ScenarioError(
+            f"The scenario definition is larger than {HEAD_BYTES // (1024 * 1024)} MB, far more "
+            f"than {MAX_DAYS} days need",
+            where="scenario definition",
+            fix="Save the scenario again from loadcore",
+        )
+    from .definition import parse_json
+
+    data = parse_json(read.text)
+    if name is not None and isinstance(data, dict):
+        data = {**data, "name": name}
+    return Scenario.from_dict(data, model_end=model_end, max_days=max_days)
