@@ -45,6 +45,7 @@ V2_KEYS = {
     "end_state",
     "residuals",
     "candidates",
+    "memory_selection",
 }
 
 

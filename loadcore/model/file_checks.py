@@ -30,7 +30,7 @@ from ..calendar import BASE_TYPE, normalise_type_name
 from ..errors import InputError, ModelError, quote, quote_all
 from .orders import lag_polynomials
 from .statespace import system_matrices
-from .terms import design_matrix, model_response
+from .terms import MEMORY_GROUPS, design_matrix, kept_groups, model_response
 
 #: Relative tolerance of the matrix comparisons (float64 round trips through JSON are exact;
 #: the slack covers files written on another machine's BLAS; our choice).
@@ -97,7 +97,7 @@ def _check_design(model: Any) -> None:
     origin = pd.Timestamp(model.origin)
     if origin != origin.normalize():
         raise _refuse("The design's origin is not a date", "design")
-    expected = design_matrix(
+    full = design_matrix(
         pd.DatetimeIndex([origin]),
         np.array([settings.terms.reference_temp_c]),
         [base],
@@ -106,7 +106,18 @@ def _check_design(model: Any) -> None:
         base_type=base,
         origin=origin,
         intercept=model.intercept,
+        memory=MEMORY_GROUPS,
+        temperature_min_c=np.array([settings.terms.reference_temp_c]),
     ).columns
+    # Memory columns are optional (each kept only when it improved AICc); the rest are not.
+    optional = {c for g in MEMORY_GROUPS for c in settings.terms.memory_columns(g)}
+    present = set(model.columns)
+    expected = [c for c in full if c not in optional or c in present]
+    if "minimum" in kept_groups(model.columns, settings.terms) and not model.history.has_minimum:
+        raise _refuse(
+            "The design uses the daily minimum temperature but the saved history has none",
+            "design.columns",
+        )
     if tuple(expected) != model.columns:
         unknown = [c for c in model.columns if c not in set(expected)]
         missing = [c for c in expected if c not in set(model.columns)]

@@ -34,6 +34,7 @@ from ..history import History
 from ..scenario import Scenario
 from ..scenario.values import gap_days as window_gap_days
 from . import forecast as propagation
+from . import memory as memory_terms
 from . import model_file, wording
 from .diagnostics import ACF_MAX_LAG, Diagnostics, diagnose
 from .forecast import Forecast
@@ -99,6 +100,9 @@ class FittedModel:
     response_comparison : ResponseComparison or None
         The model's temperature response beside the other one, fitted with the same error
         orders (:mod:`loadcore.model.response`); None in model files written before it.
+    memory_trials : tuple of MemoryTrial
+        The memory selection's fits (:mod:`loadcore.model.memory`); empty for a model fitted
+        without it (and for model files written before it).
     """
 
     settings: FitSettings
@@ -122,6 +126,7 @@ class FittedModel:
     residuals: pd.Series
     fitted_at: str = ""
     response_comparison: ResponseComparison | None = None
+    memory_trials: tuple[memory_terms.MemoryTrial, ...] = ()
     _statsmodels: dict = field(default_factory=dict, init=False, repr=False)
 
     def __post_init__(self) -> None:
@@ -137,6 +142,7 @@ class FittedModel:
         set_(self, "n_obs", int(self.n_obs))
         set_(self, "intercept", bool(self.intercept))
         set_(self, "converged", bool(self.converged))
+        set_(self, "memory_trials", tuple(self.memory_trials))
         k = len(self.param_names)
         if (
             self.param_names != self.columns + self.orders.parameter_names()
@@ -209,12 +215,26 @@ class FittedModel:
         return self.settings.calendar
 
     # ---- regression pieces ----------------------------------------------------------------
+    @property
+    def memory_terms(self) -> tuple[str, ...]:
+        """The memory groups the model kept (``past``, ``minimum``; :mod:`loadcore.model.memory`)."""
+        return memory_terms.kept_groups(self.columns, self.settings.terms)
+
+    def describe_memory(self) -> str:
+        """Which memory terms the fit tried and kept, in one or two sentences."""
+        return wording.describe_memory(self.memory_terms, self.memory_trials)
+
     def known_day_types(self) -> tuple[str, ...]:
         """The day types this model can forecast: the base type and those of the history."""
         return (self.base_type, *self.day_type_levels)
 
-    def regressors(self, dates, temperature_c, types) -> np.ndarray:
-        """The model's regression columns for any dates, temperatures (°C) and day types.
+    def regressors(self, dates, temperature_c, types, *, temperature_min_c=None) -> np.ndarray:
+        """The model's regression columns for days after the history: dates, temperatures (°C),
+        day types and, optionally, daily minima (°C).
+
+        The smoothed past temperature runs on from the history's temperatures (and its seasonal
+        normal for days between the history's end and ``dates[0]``); minima not given are the
+        maxima less the history's typical spread (:mod:`loadcore.model.memory`).
 
         Raises
         ------
@@ -224,6 +244,16 @@ class FittedModel:
         """
         dates = pd.DatetimeIndex(dates)
         types = np.asarray(types, dtype=object)
+        self._check_types(dates, types)
+        temps = np.asarray(temperature_c, float)
+        groups = self.memory_terms
+        lead_in = minimum = None
+        if groups:
+            lead_in = memory_terms.lead_in_c(self.history, dates[0])
+            minimum = memory_terms.minimum_for(self.history, dates, temps, temperature_min_c)
+        return self._columns(dates, temps, types, lead_in=lead_in, minimum=minimum)
+
+    def _check_types(self, dates: pd.DatetimeIndex, types: np.ndarray) -> None:
         known = set(self.known_day_types())
         for day, t in zip(dates, types, strict=True):
             if t not in known:
@@ -233,16 +263,28 @@ class FittedModel:
                     fix=f"Use one of: {', '.join(sorted(known))}, or refit with this type in "
                     "the history",
                 )
+
+    def _columns(self, dates, temps, types, *, lead_in, minimum) -> np.ndarray:
         X = design_matrix(
             dates,
-            np.asarray(temperature_c, float),
+            temps,
             types,
             self.settings.terms,
             levels=self.day_type_levels,
             base_type=self.base_type,
             origin=self.origin,
             intercept=self.intercept,
+            memory=self.memory_terms,
+            lead_in_c=lead_in,
+            temperature_min_c=minimum,
         )
+        missing = [c for c in self.columns if c not in X.columns]
+        if missing:
+            raise ScenarioError(
+                "The model uses the daily minimum temperature, but none is known for these days",
+                where=", ".join(missing),
+                fix="Give the scenario's daily minima, or use a history with daily minima",
+            )
         return X[list(self.columns)].to_numpy()
 
     def to_demand(self, values):
@@ -252,6 +294,13 @@ class FittedModel:
     def scenario_day_types(self, scenario: Scenario) -> np.ndarray:
         """Every scenario day's type: the scenario's own, or the model's calendar where blank."""
         return np.array(scenario.day_types_with(self.calendar_types(scenario.dates)), dtype=object)
+
+    def scenario_regressors(self, scenario: Scenario) -> np.ndarray:
+        """The regression columns of a scenario (its minima used when it has them)."""
+        dates, temps, types = self._scenario_inputs(scenario)
+        return self.regressors(
+            dates, temps, types, temperature_min_c=getattr(scenario, "temperature_min_c", None)
+        )
 
     def _scenario_inputs(
         self, scenario: Scenario
@@ -282,8 +331,7 @@ class FittedModel:
 
     def linear_predictor(self, scenario: Scenario) -> np.ndarray:
         """The regression part x'beta for each scenario day, model scale."""
-        dates, temps, types = self._scenario_inputs(scenario)
-        return self.regressors(dates, temps, types) @ self.beta
+        return self.scenario_regressors(scenario) @ self.beta
 
     # ---- the error process and forecasts --------------------------------------------------
     def simulate_noise(
@@ -319,8 +367,7 @@ class FittedModel:
         """What the estimated regression coefficients add to each path, shape (n_paths,
         horizon), model scale: one draw of the coefficients from their covariance per path
         (the same draws for the same seed, whatever the scenario's temperatures)."""
-        dates, temps, types = self._scenario_inputs(scenario)
-        X = self.regressors(dates, temps, types)
+        X = self.scenario_regressors(scenario)
         return propagation.coefficient_paths(
             self.end_state, X, self.coefficient_covariance, n_paths, seed, self.window_gap(scenario)
         )
@@ -337,7 +384,7 @@ class FittedModel:
         levels = interval_levels.parse_levels(levels, where="interval levels")
         dates, temps, types = self._scenario_inputs(scenario)
         gap = self.window_gap(scenario)
-        X = self.regressors(dates, temps, types)
+        X = self.scenario_regressors(scenario)
         lin = X @ self.beta
         noise_mean, noise_var = propagation.noise_moments(self.end_state, len(dates), gap)
         # The estimated coefficients add their own spread (a forecast from estimated
@@ -374,8 +421,13 @@ class FittedModel:
         return pd.Series(self.to_demand((y - self.residuals).dropna()), name="fitted")
 
     def _reference_day(self, temps: np.ndarray, terms, columns, beta) -> np.ndarray:
-        """x'beta for a reference-type day at the end of the history, annual terms at zero."""
+        """x'beta for a reference-type day at the end of the history, annual terms at zero; memory
+        terms (when ``columns`` has them) as after a spell at each temperature: the smoothed
+        past temperature equals it, the minimum is it less the history's mean max-min spread."""
         n = len(temps)
+        steady = {}
+        for group in memory_terms.kept_groups(tuple(columns), terms):
+            steady.update(memory_terms.steady_columns(group, terms, temps, self.history))
         X = design_matrix(
             pd.DatetimeIndex([self.history_end] * n),
             temps,
@@ -389,6 +441,7 @@ class FittedModel:
         for c in X.columns:
             if c.startswith("annual_"):
                 X[c] = 0.0
+        X = X.assign(**steady)
         return X[list(columns)].to_numpy() @ np.asarray(beta, float)
 
     def response_curve(self, temps_c) -> pd.DataFrame:
@@ -549,7 +602,17 @@ class FittedModel:
         frame = history.frame
         dates = pd.DatetimeIndex(frame.index)
         types = self.calendar_types(dates).to_numpy(dtype=object)
-        X = self.regressors(dates, frame["temperature_c"].to_numpy(float), types)
+        temps = frame["temperature_c"].to_numpy(float)
+        self._check_types(dates, types)
+        minimum = None
+        if "minimum" in self.memory_terms:
+            # The history's own minima, or the model history's typical spread where it has none.
+            if "temperature_min_c" in frame:
+                minimum = frame["temperature_min_c"].to_numpy(float)
+            else:
+                minimum = temps - memory_terms.typical_spread_c(self.history, dates)
+        # A history is its own lead-in: its first day starts the smoothing, as in the fit.
+        X = self._columns(dates, temps, types, lead_in=None, minimum=minimum)
         return model_response(frame["demand"].to_numpy(float), self.settings.log), X
 
     def _keep_statsmodels_results(self, results: Any) -> None:

@@ -12,7 +12,9 @@ jointly by exact Gaussian maximum likelihood (:mod:`loadcore.model.likelihood`).
    (:mod:`loadcore.model.response`: degree days with bases by profile likelihood beside the
    quadratic, or the quadratic beside degree days); with ``response="auto"`` the one with the
    lower AICc is kept (refitted with its covariance);
-5. one Kalman filter pass at the chosen parameters (statsmodels, the reference) for the end
+5. the memory terms (:func:`loadcore.model.memory.choose_memory`): each kept only when it
+   lowers AICc with the chosen error orders;
+6. one Kalman filter pass at the chosen parameters (statsmodels, the reference) for the end
    state the forecasts start from and the one-step residuals
    (:func:`loadcore.model.statespace.run_filter`).
 """
@@ -36,6 +38,7 @@ from .exact import exact_fit
 from .fitted import FittedModel
 from .identify import check_temperature_terms
 from .likelihood import RegressionArima, identified_columns
+from .memory import candidate_groups, choose_memory, group_columns
 from .orders import DifferencingDecision, Orders, choose_differencing
 from .search import candidate_table, search_orders
 from .settings import FitSettings, Progress
@@ -222,6 +225,19 @@ def fit(
             other_fit.aicc,
             comparison.seconds,
         )
+    has_demand = np.isfinite(y)
+    memory = choose_memory(
+        y,
+        X_df,
+        {
+            g: group_columns(g, history, settings.terms, has_demand)
+            for g in candidate_groups(history, settings.terms)
+        },
+        best,
+        d=d,
+        D=D,
+    )
+    best, X_df, X = memory.fit, memory.frame, memory.frame.to_numpy()
     params = best.params
     covariance = best.cov
     run = run_filter(y, X, best.orders, params, with_covariance=not np.all(np.isfinite(covariance)))
@@ -252,6 +268,7 @@ def fit(
         residuals=run.residuals(pd.DatetimeIndex(history.frame.index)),
         fitted_at=dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
         response_comparison=comparison,
+        memory_trials=memory.trials,
     )
     model._keep_statsmodels_results(run.results)
     log.info("fitted %s, AICc %.2f", best.orders.describe(), model.aicc)

@@ -28,6 +28,11 @@ Format 2 (written since the model package; every name is ours)::
     response_comparison  (optional; files written before it have none) asked (quadratic,
                       degree_days or auto), fitted and other (each: terms, columns,
                       coefficients, log_likelihood, aicc, bases_estimated), seconds
+    memory_selection  the memory terms' fits (loadcore.model.memory): one object per fit with
+                      terms (kept groups, "past", "minimum"), aicc (null when not usable), kept;
+                      absent in files written before it (read as no selection). The kept terms
+                      are also in design.columns (temp_past, hdd_min...) and the smoothing
+                      weight in settings.terms.memory_weight
 
 Format 1 (loadcore 0.1) mirrored a statistics library's spelling (``orders`` as a list,
 ``param_names`` such as ``ar.S.L7`` and ``sigma2``, ``cov_params``, ``max_p``...); it is read by
@@ -49,10 +54,12 @@ from ..errors import InputError, LoadcoreError, ModelError, clip, quote
 from ..history import HistorySettings, history_from_frame
 from ..version import __version__
 from . import file_checks
+from .memory import MemoryTrial
 from .orders import WEEKLY_PERIOD, DifferencingDecision, Orders
 from .response import ResponseComparison
 from .settings import FitSettings
 from .statespace import EndState, own_name
+from .terms import MEMORY_GROUPS
 
 KIND = "loadcore fitted model"
 FORMAT_VERSION = 2
@@ -167,6 +174,10 @@ def model_to_dict(model: Any) -> dict:
             if model.response_comparison is not None
             else {}
         ),
+        "memory_selection": [
+            {"terms": list(t.terms), "aicc": _nan_to_none([t.aicc])[0], "kept": bool(t.kept)}
+            for t in model.memory_trials
+        ],
     }
 
 
@@ -370,7 +381,31 @@ def model_fields(data: dict, where: str) -> dict[str, Any]:
             if data.get("response_comparison") is not None
             else None
         ),
+        "memory_trials": _memory_trials(data.get("memory_selection", [])),
     }
+
+
+def _memory_trials(rows: Any) -> tuple[MemoryTrial, ...]:
+    if not isinstance(rows, list) or not all(isinstance(r, dict) for r in rows):
+        raise ValueError("the memory selection is not a list of fits")
+    trials = []
+    for row in rows:
+        terms = row["terms"]
+        if not isinstance(terms, list) or not set(terms) <= set(MEMORY_GROUPS):
+            raise ValueError(f"memory terms {clip(terms)} are not ones loadcore writes")
+        aicc = row["aicc"]
+        trials.append(
+            MemoryTrial(
+                tuple(str(t) for t in terms),
+                float("nan")
+                if aicc is None
+                else checks.real_number(
+                    aicc, "memory_selection.aicc", -1e12, 1e12, where="model file"
+                ),
+                _flag(row["kept"], "memory_selection.kept"),
+            )
+        )
+    return tuple(trials)
 
 
 def read_model(source: str | Path | bytes, build: Callable[..., Any]):

@@ -3,7 +3,8 @@
 The regressors are the product's own (:func:`loadcore.model.terms.design_matrix` with the day
 types of :func:`loadcore.calendar.day_types`), built on seasonal temperatures; the errors follow a chosen
 weekly seasonal ARMA process; a few per cent of demand days are missing. Everything is drawn
-from one seeded generator, so a seed gives the same history on every machine.
+from one seeded generator (the max-min spread from a second one seeded from the same seed), so a
+seed gives the same history on every machine.
 """
 
 from __future__ import annotations
@@ -26,6 +27,15 @@ ANNUAL_SWING_C = 10.0
 #: Day-to-day temperature anomalies: AR(1) coefficient and standard deviation, °C (our choice).
 ANOMALY_AR = 0.7
 ANOMALY_SD_C = 3.0
+#: Daily max-min spread, °C: mean, annual swing (widest in summer) and day-to-day standard
+#: deviation, of the same invented region (our choice).
+SPREAD_MEAN_C = 9.0
+SPREAD_SWING_C = 2.0
+SPREAD_SD_C = 1.5
+
+#: A memory response for simulated truths with memory (log MW per unit of each column): a
+#: spell of cold or hot days raises demand beyond what the day's own maximum does (our choice).
+MEMORY_RESPONSE = {"temp_past": -0.01, "temp_past_sq": 0.025, "temp_min": -0.015}
 
 #: Log-demand response used for every simulated history (log MW per unit of each regressor).
 TRUE_RESPONSE = {
@@ -113,6 +123,8 @@ class SimulatedHistory:
         True regression coefficients.
     truth : ErrorTruth
         True error process.
+    temperature_min_c : array
+        Daily minimum temperature, °C.
     """
 
     dates: pd.DatetimeIndex
@@ -122,16 +134,17 @@ class SimulatedHistory:
     columns: tuple[str, ...]
     beta: np.ndarray
     truth: ErrorTruth
+    temperature_min_c: np.ndarray | None = None
 
-    def to_history(self):
+    def to_history(self, *, with_minimum: bool = False):
         """The simulated days as a validated :class:`loadcore.history.History` (demand in MW
-        = exp of the log demand, missing days kept missing)."""
+        = exp of the log demand, missing days kept missing), with the daily minimum when asked."""
         from ..history import history_from_frame
 
-        frame = pd.DataFrame(
-            {"demand": np.exp(self.y), "temperature_c": self.temperature_c}, index=self.dates
-        )
-        return history_from_frame(frame)
+        columns = {"demand": np.exp(self.y), "temperature_c": self.temperature_c}
+        if with_minimum:
+            columns["temperature_min_c"] = self.temperature_min_c
+        return history_from_frame(pd.DataFrame(columns, index=self.dates))
 
 
 def simulate_errors(truth: ErrorTruth, n_days: int, rng: np.random.Generator) -> np.ndarray:
@@ -151,6 +164,7 @@ def simulated_history(
     seed: int = 0,
     start: str = "2019-01-01",
     terms: TermSpec | None = None,
+    memory: dict[str, float] | None = None,
 ) -> SimulatedHistory:
     """Simulate a daily log-demand history with the product's regressors.
 
@@ -169,6 +183,9 @@ def simulated_history(
     terms : TermSpec, optional
         The true regressors (default ``TermSpec()``, the quadratic); with degree days the
         coefficients of :data:`TRUE_DEGREE_DAYS` at the spec's bases.
+    memory : dict, optional
+        True coefficients of memory columns (for example :data:`MEMORY_RESPONSE`), added to
+        the truth; None for a truth without memory.
     """
     if not 0.0 <= missing_fraction < 0.5:
         raise InputError(
@@ -185,6 +202,14 @@ def simulated_history(
     temperature_c = (
         MEAN_TEMPERATURE_C + ANNUAL_SWING_C * np.cos(2 * np.pi * (doy - 205) / 365.25) + anomaly
     )
+    # The spread has its own generator (seeded from the same seed), so that histories without
+    # memory draw exactly what they drew before it existed.
+    spread = (
+        SPREAD_MEAN_C
+        + SPREAD_SWING_C * np.cos(2 * np.pi * (doy - 205) / 365.25)
+        + SPREAD_SD_C * np.random.default_rng([seed, 1]).standard_normal(n_days)
+    )
+    temperature_min_c = temperature_c - np.maximum(spread, 1.0)
     spec = CalendarSpec()
     types = day_types(dates, spec).to_numpy(dtype=object)
     base = BASE_TYPE[spec.scheme]
@@ -198,9 +223,13 @@ def simulated_history(
         base_type=base,
         origin=dates[0],
         intercept=True,
+        memory=("past", "minimum") if memory else (),
+        temperature_min_c=temperature_min_c,
     )
+    truth_response = {**TRUE_RESPONSE, **TRUE_DEGREE_DAYS, **(memory or {})}
+    frame = frame[[c for c in frame.columns if c in truth_response]]
     columns = tuple(frame.columns)
-    beta = np.array([{**TRUE_RESPONSE, **TRUE_DEGREE_DAYS}[c] for c in columns])
+    beta = np.array([truth_response[c] for c in columns])
     X = frame.to_numpy()
     y = X @ beta + simulate_errors(truth, n_days, rng)
     n_missing = int(round(missing_fraction * n_days))
@@ -210,4 +239,4 @@ def simulated_history(
         run = 1 if rng.random() < 0.7 else int(rng.integers(2, 5))
         missing.update(range(first, min(first + run, n_days)))
     y[sorted(missing)[:n_missing]] = np.nan
-    return SimulatedHistory(dates, temperature_c, y, X, columns, beta, truth)
+    return SimulatedHistory(dates, temperature_c, y, X, columns, beta, truth, temperature_min_c)

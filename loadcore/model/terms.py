@@ -1,8 +1,24 @@
-"""Regressors for the demand model: temperature response, day types, annual terms, growth.
+"""Regressors for the demand model: temperature response, day types, annual terms, growth,
+and the temperature memory terms.
 
 The regression is on log demand (or demand; :func:`model_response`) and every column here is
 built by one function, :func:`design_matrix`, for history and future dates alike, so that a
 scenario is always described by exactly the columns the model was fitted with.
+
+Memory terms (two groups, each tried by the fit and kept only when it improves AICc;
+:mod:`loadcore.model.memory`):
+
+- ``past``: the smoothed past temperature S_t, an exponentially weighted mean of the days
+  before t: S_t = w T_{t-1} + (1 - w) S_{t-1}, with S at the first day equal to that day's
+  temperature (no earlier day is known). It is pandas' ``T.ewm(alpha=w, adjust=False).mean()``
+  shifted one day. It enters in the shape of the response: (S - reference)/10 and its square
+  (``temp_past``, ``temp_past_sq``) or its own heating and cooling degrees (``hdd_past``,
+  ``cdd_past``, same bases).
+- ``minimum``: the daily minimum temperature beside the maximum, in the same shape
+  (``temp_min``, ``temp_min_sq`` or ``hdd_min``, ``cdd_min``).
+
+Future days get the smoothed term from the history's temperatures before them (the lead-in,
+:func:`smoothed_past`), so it runs on from the history without a break.
 """
 
 from __future__ import annotations
@@ -29,6 +45,14 @@ RESPONSES = ("quadratic", "degree_days")
 #: same error orders; :mod:`loadcore.model.response`).
 RESPONSE_CHOICES = (*RESPONSES, "auto")
 
+#: Weight of the previous day in the smoothed past temperature: 0.5 is pandas' ``span=3``
+#: (alpha = 2 / (span + 1)), a three-day memory whose weights halve each day back (common
+#: practice, no source).
+MEMORY_WEIGHT = 0.5
+
+#: The memory groups, in the order the fit tries them and the design lists them.
+MEMORY_GROUPS = ("past", "minimum")
+
 
 @dataclass(frozen=True)
 class TermSpec:
@@ -50,6 +74,11 @@ class TermSpec:
         Number of annual Fourier pairs (cos, sin) for seasonal effects beyond temperature.
     trend : bool
         Include a slow-growth term (years since the start of the history).
+    memory : bool
+        Try the memory terms (smoothed past temperature; the daily minimum where the history
+        has it); the fit keeps each only when it improves AICc.
+    memory_weight : float
+        Weight of the previous day in the smoothed past temperature, in (0, 1].
     """
 
     response: str = "quadratic"
@@ -58,6 +87,8 @@ class TermSpec:
     cooling_base_c: float = 24.0
     annual_harmonics: int = 2
     trend: bool = True
+    memory: bool = True
+    memory_weight: float = MEMORY_WEIGHT
 
     def __post_init__(self) -> None:
         where = "model settings"
@@ -69,6 +100,9 @@ class TermSpec:
             object.__setattr__(self, name, value)
         checks.whole_number(self.annual_harmonics, "annual_harmonics", 0, 6, where=where)
         checks.flag(self.trend, "trend", where=where)
+        checks.flag(self.memory, "memory", where=where)
+        weight = checks.real_number(self.memory_weight, "memory_weight", 0.05, 1.0, where=where)
+        object.__setattr__(self, "memory_weight", weight)
         if self.response == "degree_days" and self.cooling_base_c < self.heating_base_c:
             raise InputError(
                 "The cooling base is below the heating base",
@@ -98,6 +132,13 @@ class TermSpec:
         if self.response == "auto":
             return replace(self, response="quadratic")
         return self
+
+    def memory_columns(self, group: str) -> tuple[str, ...]:
+        """The columns of one memory group (``past`` or ``minimum``) for this response."""
+        tag = {"past": "past", "minimum": "min"}[group]
+        if self.response == "degree_days":
+            return (f"hdd_{tag}", f"cdd_{tag}")
+        return (f"temp_{tag}", f"temp_{tag}_sq")
 
 
 def model_response(demand: np.ndarray, use_log: bool) -> np.ndarray:
@@ -133,6 +174,65 @@ def temperature_terms(temperature_c: np.ndarray, spec: TermSpec) -> dict[str, np
     }
 
 
+def kept_groups(columns: tuple[str, ...], spec: TermSpec) -> tuple[str, ...]:
+    """The memory groups a model's columns contain."""
+    present = set(columns)
+    return tuple(g for g in MEMORY_GROUPS if present & set(spec.memory_columns(g)))
+
+
+def smoothed_past(
+    temperature_c: np.ndarray, weight: float, lead_in_c: np.ndarray | None = None
+) -> np.ndarray:
+    """The smoothed past temperature of every day, °C (see the module docstring).
+
+    Parameters
+    ----------
+    temperature_c : array
+        Daily temperature of consecutive days, °C.
+    weight : float
+        Weight of the previous day, in (0, 1].
+    lead_in_c : array, optional
+        Temperatures of the consecutive days just before the first one, °C (a history's days
+        before a scenario). Without it the first day's smoothed value is its own temperature.
+
+    Returns
+    -------
+    array of the same length as ``temperature_c``.
+    """
+    t = np.asarray(temperature_c, dtype=float)
+    lead = np.asarray(lead_in_c if lead_in_c is not None else [], dtype=float)
+    series = np.concatenate([lead, t])
+    if len(series) == 0:
+        return series
+    w = float(weight)
+    out = np.empty(len(series))
+    running = series[0]  # the first day's "past" is itself: no earlier day is known
+    for i, value in enumerate(series):
+        out[i] = running
+        running = w * value + (1.0 - w) * running
+    return out[len(lead) :]
+
+
+def memory_terms(
+    group: str,
+    spec: TermSpec,
+    temperature_c: np.ndarray,
+    *,
+    lead_in_c: np.ndarray | None = None,
+    temperature_min_c: np.ndarray | None = None,
+) -> dict[str, np.ndarray]:
+    """The columns of one memory group (``past`` or ``minimum``), named by
+    :meth:`TermSpec.memory_columns`."""
+    if group == "past":
+        source = smoothed_past(temperature_c, spec.memory_weight, lead_in_c)
+    elif temperature_min_c is None:
+        return {}
+    else:
+        source = np.asarray(temperature_min_c, dtype=float)
+    base = temperature_terms(source, spec)
+    return dict(zip(spec.memory_columns(group), base.values(), strict=True))
+
+
 def design_matrix(
     dates: pd.DatetimeIndex,
     temperature_c: np.ndarray,
@@ -143,6 +243,9 @@ def design_matrix(
     base_type: str,
     origin: pd.Timestamp,
     intercept: bool,
+    memory: tuple[str, ...] = (),
+    lead_in_c: np.ndarray | None = None,
+    temperature_min_c: np.ndarray | None = None,
 ) -> pd.DataFrame:
     """Build the regression columns for the given dates.
 
@@ -165,6 +268,13 @@ def design_matrix(
         Date where the growth term is zero (the first day of the fitted history).
     intercept : bool
         Include a constant (not identified when the errors are differenced).
+    memory : tuple of str
+        Memory groups to build (:data:`MEMORY_GROUPS`); ``minimum`` only when
+        ``temperature_min_c`` is given.
+    lead_in_c : array, optional
+        Temperatures of the days just before ``dates``, °C, for the smoothed past temperature.
+    temperature_min_c : array, optional
+        Daily minimum temperature, °C.
 
     Returns
     -------
@@ -186,4 +296,15 @@ def design_matrix(
             angle = 2.0 * np.pi * k * doy / DAYS_PER_YEAR
             cols[f"annual_cos{k}"] = np.cos(angle)
             cols[f"annual_sin{k}"] = np.sin(angle)
+    for group in MEMORY_GROUPS:  # last, so that a model without them has the old columns
+        if group in memory:
+            cols.update(
+                memory_terms(
+                    group,
+                    spec,
+                    temperature_c,
+                    lead_in_c=lead_in_c,
+                    temperature_min_c=temperature_min_c,
+                )
+            )
     return pd.DataFrame(cols, index=dates)

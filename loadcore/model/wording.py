@@ -10,6 +10,7 @@ from typing import Any
 
 from .. import units
 from ..calendar import day_type_label
+from .memory import GROUP_LABELS
 from .orders import SHOCK_VARIANCE, WEEKLY_PERIOD, Orders, error_term, weeks_in_words
 from .terms import TermSpec
 
@@ -22,6 +23,18 @@ _FIXED_LABELS = {
     "cdd": "cooling degrees",
     SHOCK_VARIANCE: "shock variance",
 }
+
+#: Memory columns -> (the main temperature column they mirror, what their temperature is).
+_MEMORY_COLUMNS = {
+    f"{base}_{tag}{sq}": (f"{base}{sq}", what)
+    for tag, what in (("past", "smoothed past temperature"), ("min", "daily minimum temperature"))
+    for base, sq in (("temp", ""), ("temp", "_sq"), ("hdd", ""), ("cdd", ""))
+}
+
+
+def _memory_base(name: str) -> tuple[str, str] | None:
+    """``(main column, what)`` for a memory column (``temp_past_sq`` -> ``("temp_sq", ...)``)."""
+    return _MEMORY_COLUMNS.get(name)
 
 
 def _plural(n: int, word: str) -> str:
@@ -62,6 +75,11 @@ def term_label(name: str, period: int = WEEKLY_PERIOD) -> str:
         return _FIXED_LABELS[name]
     if name.startswith("type_"):
         return f"day type: {day_type_label(name[5:])}"
+    memory = _memory_base(name)
+    if memory is not None:
+        base, what = memory
+        part = _FIXED_LABELS[base].split(", ")[-1] if base.startswith("temp") else None
+        return f"{what}, {part}" if part else f"{_FIXED_LABELS[base]} of the {what}"
     if name.startswith("annual_"):
         return f"annual {'cosine' if 'cos' in name else 'sine'} {name[-1]}"
     term = error_term(name)
@@ -107,6 +125,19 @@ def coefficient_meaning(
         verb = "raises" if coef >= 0 else "lowers"
         return f"{what} {verb} demand by {abs(coef):,.1f} {demand_unit}"
 
+    memory = _memory_base(name)
+    if memory is not None:
+        base, what = memory
+        plain = coefficient_meaning(
+            base,
+            estimate,
+            terms=terms,
+            log=log,
+            demand_unit=demand_unit,
+            base_type=base_type,
+            temp_unit=temp_unit,
+        )
+        return f"{what} (beside the day's maximum): {plain}"
     if name == "const":
         lvl = math.exp(b) if log else b
         where = (
@@ -156,6 +187,36 @@ def coefficient_meaning(
     if kind == "ar":
         return f"how much of a deviation carries over from {k} day(s) earlier"
     return f"how much of a shock echoes {k} day(s) later"
+
+
+def describe_memory(kept: tuple[str, ...], trials) -> str:
+    """Which memory terms the fit tried and kept, with the AICc gain, in plain words.
+
+    Parameters
+    ----------
+    kept : tuple of str
+        The kept groups (``past``, ``minimum``).
+    trials : sequence of MemoryTrial
+        The selection's fits; empty for a model fitted without the selection.
+    """
+    labels = GROUP_LABELS
+    if not trials:
+        return "Memory terms were not tried for this model."
+    tried = sorted({g for t in trials for g in t.terms}, key=list(labels).index)
+    if not tried:
+        return "Memory terms were not tried (switched off, or no term could be estimated)."
+    base = next((t.aicc for t in trials if not t.terms), float("nan"))
+    final = next((t.aicc for t in trials if t.kept), base)
+    tried_text = " and ".join(labels[g] for g in tried)
+    if not kept:
+        verdict = "it did not" if len(tried) == 1 else "neither did"
+        return f"Tried the {tried_text}; {verdict} improve AICc, so the model has no memory terms."
+    kept_text = " and ".join(labels[g] for g in kept)
+    left = [labels[g] for g in tried if g not in kept]
+    out = f"Kept the {kept_text} (AICc lower by {base - final:,.1f})"
+    if left:
+        out += f"; the {' and '.join(left)} did not improve AICc"
+    return out + "."
 
 
 def lowest_demand_temperature_c(terms: TermSpec, coefficients: dict[str, float]) -> float | None:

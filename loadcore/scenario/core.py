@@ -41,6 +41,10 @@ class Scenario:
         A day type for each date, or None to take every day type from the model's calendar.
         A blank entry (None, "", NaN) means "from the calendar" for that date; names are
         normalised to lower_snake_case.
+    temperature_min_c : sequence of float, optional
+        Daily minimum temperature for each date, °C, for models that use it; a blank day (or
+        None for all) takes the maximum less the history's typical spread for that calendar
+        day (:mod:`loadcore.model.memory`).
 
     Raises
     ------
@@ -51,13 +55,15 @@ class Scenario:
     -----
     After construction ``dates`` is a DatetimeIndex named ``date``, ``temperature_c`` a read-only
     float array, ``day_types`` None or a tuple of str with "" for "from the calendar" (None when
-    every entry is blank). Scenarios compare by value.
+    every entry is blank), ``temperature_min_c`` None or a read-only float array with NaN for
+    blank days. Scenarios compare by value.
     """
 
     name: str
     dates: pd.DatetimeIndex
     temperature_c: np.ndarray
     day_types: tuple[str, ...] | None = None
+    temperature_min_c: np.ndarray | None = None
 
     def __post_init__(self) -> None:
         label = values.scenario_name(self.name)
@@ -66,6 +72,8 @@ class Scenario:
         values.check_length(len(dates), where)
         temps = values.temperatures(self.temperature_c, dates, where)
         types = values.day_types(self.day_types, dates, where)
+        minima = values.minimum_temperatures(self.temperature_min_c, temps, dates, where)
+        object.__setattr__(self, "temperature_min_c", minima)
         object.__setattr__(self, "name", label)
         object.__setattr__(self, "dates", dates)
         object.__setattr__(self, "temperature_c", temps)
@@ -110,24 +118,31 @@ class Scenario:
         """A copy whose blank day types are taken from ``calendar_types`` (see
         :meth:`day_types_with`): same name, dates and temperatures; every day has a type."""
         filled = self.day_types_with(calendar_types)
-        return Scenario(self.name, self.dates, self.temperature_c, filled)
+        return Scenario(self.name, self.dates, self.temperature_c, filled, self.temperature_min_c)
 
     def moved_to(self, start: Any) -> Scenario:
         """The same scenario on other dates: name, temperatures and own day types day by day,
         on consecutive days from ``start`` (for a window that no longer fits a newer model)."""
         first = values.parse_date(start, f"scenario {self.name!r}, new first date")
         dates = pd.date_range(first, periods=self.horizon, freq="D", name="date")
-        return Scenario(self.name, dates, self.temperature_c.copy(), self.day_types)
+        return Scenario(
+            self.name, dates, self.temperature_c.copy(), self.day_types, self.temperature_min_c
+        )
 
     def to_frame(self) -> pd.DataFrame:
-        """One row per day: ``date``, ``temperature_c`` (°C), ``day_type`` ("" = from the calendar)."""
-        return pd.DataFrame(
+        """One row per day: ``date``, ``temperature_c`` (°C), ``day_type`` ("" = from the
+        calendar), and ``temperature_min_c`` (°C, NaN = from the typical spread) when the
+        scenario has minima."""
+        frame = pd.DataFrame(
             {
                 "date": self.dates,
                 "temperature_c": self.temperature_c.copy(),
                 "day_type": list(self._own_types()),
             }
         )
+        if self.temperature_min_c is not None:
+            frame["temperature_min_c"] = self.temperature_min_c.copy()
+        return frame
 
     def _own_types(self) -> tuple[str, ...]:
         return self.day_types or ("",) * self.horizon
@@ -139,9 +154,12 @@ class Scenario:
         -------
         dict
             ``kind``, ``version``, ``name`` and ``days``: a list of ``{"date": "YYYY-MM-DD",
-            "temperature_c": float, "day_type": str | None}``, None meaning "from the calendar".
+            "temperature_c": float, "day_type": str | None}``, None meaning "from the calendar",
+            with ``"temperature_min_c": float | None`` on every day when the scenario has minima.
         """
-        return defn.definition(self.name, self.dates, self.temperature_c, self._own_types())
+        return defn.definition(
+            self.name, self.dates, self.temperature_c, self._own_types(), self.temperature_min_c
+        )
 
     def to_json(self) -> str:
         """The scenario definition (:meth:`to_dict`) as JSON text."""
@@ -167,9 +185,11 @@ class Scenario:
         ScenarioError
             When the definition is not one loadcore wrote, or its contents fail the checks.
         """
-        name, dates, temps, types = defn.pieces(data)
+        name, dates, temps, types, minima = defn.pieces(data)
         path = pd.Series(temps, index=pd.DatetimeIndex(dates), dtype=object)
-        return make_scenario(name, path, types, model_end=model_end, max_days=max_days)
+        return make_scenario(
+            name, path, types, model_end=model_end, max_days=max_days, temperature_min_c=minima
+        )
 
     @classmethod
     def from_json(cls, text: str | bytes, **kwargs: Any) -> Scenario:
@@ -184,22 +204,32 @@ class Scenario:
             and self.dates.equals(other.dates)
             and np.array_equal(self.temperature_c, other.temperature_c)
             and self.day_types == other.day_types
+            and (
+                (self.temperature_min_c is None and other.temperature_min_c is None)
+                or (
+                    self.temperature_min_c is not None
+                    and other.temperature_min_c is not None
+                    and np.array_equal(
+                        self.temperature_min_c, other.temperature_min_c, equal_nan=True
+                    )
+                )
+            )
         )
 
     __hash__ = None  # type: ignore[assignment]
 
 
-def _aligned_day_types(day_types: Any, index: pd.DatetimeIndex) -> Any:
-    """Day types given as a Series on dates, put in the order of ``index``."""
+def _aligned_day_types(day_types: Any, index: pd.DatetimeIndex, what: str = "day types") -> Any:
+    """Day types (or minima) given as a Series on dates, put in the order of ``index``."""
     if not (isinstance(day_types, pd.Series) and isinstance(day_types.index, pd.DatetimeIndex)):
         return day_types
     aligned = day_types.copy()
     aligned.index = aligned.index.normalize()
     if not aligned.index.equals(index):
         raise ScenarioError(
-            "The day types are on different dates from the temperatures",
-            where="day types",
-            fix="Give day types on the same dates as the temperature path",
+            f"The {what} are on different dates from the temperatures",
+            where=what,
+            fix=f"Give {what} on the same dates as the temperature path",
         )
     return list(aligned.to_numpy())
 
@@ -211,8 +241,9 @@ def make_scenario(
     *,
     model_end: Any = None,
     max_days: int = MAX_DAYS,
+    temperature_min_c: Any = None,
 ) -> Scenario:
-    """Make a :class:`Scenario` from a temperature path (and day types).
+    """Make a :class:`Scenario` from a temperature path (and day types, and minima).
 
     Parameters
     ----------
@@ -229,6 +260,9 @@ def make_scenario(
         (:meth:`Scenario.check_start`, the check a model makes again before it forecasts).
     max_days : int
         Longest allowed horizon, days: :data:`MAX_DAYS` unless a caller wants fewer.
+    temperature_min_c : sequence of float or pd.Series, optional
+        Daily minimum temperatures, °C, one per date (blank = from the history's typical
+        spread); a Series must be on the path's dates.
 
     Returns
     -------
@@ -251,7 +285,11 @@ def make_scenario(
     values.check_length(len(path), where, max_days)
     index = values.daily_dates(path.index, where)
     scenario = Scenario(
-        label, index, path.to_numpy(dtype=object), _aligned_day_types(day_types, index)
+        label,
+        index,
+        path.to_numpy(dtype=object),
+        _aligned_day_types(day_types, index),
+        _aligned_day_types(temperature_min_c, index, "minimum temperatures"),
     )
     if model_end is not None:
         scenario.check_start(model_end)

@@ -9,6 +9,7 @@ writes it. This module turns a definition into its pieces and back; the
 
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 from typing import Any
 
@@ -24,22 +25,32 @@ _WHERE = "scenario definition"
 
 
 def definition(
-    name: str, dates: Sequence[Any], temperature_c: Sequence[float], day_types: Sequence[str]
+    name: str,
+    dates: Sequence[Any],
+    temperature_c: Sequence[float],
+    day_types: Sequence[str],
+    temperature_min_c: Sequence[float] | None = None,
 ) -> dict[str, Any]:
-    """The definition of a scenario's pieces ("" day types become null)."""
+    """The definition of a scenario's pieces ("" day types and NaN minima become null; a
+    scenario without minima has no ``temperature_min_c`` entries)."""
+    days = [
+        {"date": iso(d), "temperature_c": float(t), "day_type": dt if dt else None}
+        for d, t, dt in zip(dates, temperature_c, day_types, strict=True)
+    ]
+    if temperature_min_c is not None:
+        for day, low in zip(days, temperature_min_c, strict=True):
+            day["temperature_min_c"] = None if math.isnan(low) else float(low)
     return {
         "kind": DEFINITION_KIND,
         "version": DEFINITION_VERSION,
         "name": name,
-        "days": [
-            {"date": iso(d), "temperature_c": float(t), "day_type": dt if dt else None}
-            for d, t, dt in zip(dates, temperature_c, day_types, strict=True)
-        ],
+        "days": days,
     }
 
 
-def pieces(data: Any) -> tuple[str, list, list, list]:
-    """Name, dates, temperatures (as written) and day types of a definition.
+def pieces(data: Any) -> tuple[str, list, list, list, list | None]:
+    """Name, dates, temperatures (as written), day types and minima (None when no day has
+    ``temperature_min_c``) of a definition.
 
     Raises
     ------
@@ -64,7 +75,7 @@ def pieces(data: Any) -> tuple[str, list, list, list]:
         raise ScenarioError(
             "The scenario definition has no days", where=_WHERE, fix="Add at least one day"
         )
-    dates, temps, types = [], [], []
+    dates, temps, types, minima = [], [], [], []
     for i, day in enumerate(days, start=1):
         if not isinstance(day, dict) or "date" not in day or "temperature_c" not in day:
             raise ScenarioError(
@@ -75,7 +86,9 @@ def pieces(data: Any) -> tuple[str, list, list, list]:
         dates.append(parse_date(day["date"], f"{_WHERE}, day {i}"))
         temps.append(day["temperature_c"])
         types.append(day.get("day_type"))
-    return str(data.get("name") or "scenario"), dates, temps, types
+        minima.append(day.get("temperature_min_c"))
+    given = any(day.get("temperature_min_c") is not None for day in days)
+    return str(data.get("name") or "scenario"), dates, temps, types, minima if given else None
 
 
 def parse_json(text: str | bytes) -> Any:

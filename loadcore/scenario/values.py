@@ -34,6 +34,10 @@ MAX_DAYS = 92
 #: specification: any window of the coming two years).
 MAX_LEAD_MONTHS = 24
 
+#: A minimum may exceed the day's maximum by this much, °C (rounding of the two readings; the
+#: tolerance the history check allows, our choice there).
+MINIMUM_ABOVE_MAXIMUM_C = 0.5
+
 
 def iso(ts: Any) -> str:
     return pd.Timestamp(ts).strftime("%Y-%m-%d")
@@ -210,6 +214,56 @@ def temperatures(values: Any, dates: pd.DatetimeIndex, where: str) -> np.ndarray
         )
     temps.setflags(write=False)
     return temps
+
+
+def minimum_temperatures(
+    values: Any, maxima_c: np.ndarray, dates: pd.DatetimeIndex, where: str
+) -> np.ndarray | None:
+    """Daily minimum temperatures (°C) for a scenario, or None when none is given.
+
+    Blank days (None, "", NaN) are allowed and stay NaN ("from the history's typical spread");
+    a given minimum must be a plausible number and not above the day's maximum (by more than
+    :data:`MINIMUM_ABOVE_MAXIMUM_C`). Read-only float array.
+    """
+    if values is None:
+        return None
+    raw = np.asarray(values, dtype=object).reshape(-1)
+    if len(raw) != len(dates):
+        raise ScenarioError(
+            f"The scenario has {len(dates)} dates but {len(raw)} minimum temperatures",
+            where=where,
+            fix="Give one minimum temperature (or a blank) for each date",
+        )
+    out = np.full(len(raw), np.nan)
+    for i, value in enumerate(raw):
+        if is_blank(value):
+            continue
+        t = number(value)
+        at = f"{where}, date {iso(dates[i])}"
+        if t is None:
+            raise ScenarioError(
+                f"The minimum temperature is {quote(value)}: not a number",
+                where=at,
+                fix="Give a number or leave it blank (blank: from the history's typical spread)",
+            )
+        if not PLAUSIBLE_MIN_C <= t <= PLAUSIBLE_MAX_C:
+            raise ScenarioError(
+                f"The minimum temperature {t:g} °C is outside the plausible range "
+                f"{PLAUSIBLE_MIN_C:g} to {PLAUSIBLE_MAX_C:g} °C",
+                where=at,
+                fix="Check the value and the unit (°F values must be read with unit F)",
+            )
+        if t > maxima_c[i] + MINIMUM_ABOVE_MAXIMUM_C:
+            raise ScenarioError(
+                f"The minimum temperature {t:g} °C is above the day's maximum {maxima_c[i]:g} °C",
+                where=at,
+                fix="Check that the minimum and maximum columns are not swapped",
+            )
+        out[i] = t
+    if np.isnan(out).all():
+        return None
+    out.setflags(write=False)
+    return out
 
 
 def day_types(values: Any, dates: pd.DatetimeIndex, where: str) -> tuple[str, ...] | None:
