@@ -240,7 +240,11 @@ def _check_comparison(model: Any) -> None:
         return
     part = "response_comparison"
     fitted, other = comparison.fitted, comparison.other
-    if fitted.response != model.settings.terms.response or fitted.columns != model.columns:
+    # The comparison is made before the memory terms are chosen, so without them.
+    terms = model.settings.terms
+    memory = {c for g in MEMORY_GROUPS for c in terms.memory_columns(g)}
+    own = tuple(c for c in model.columns if c not in memory)
+    if fitted.response != terms.response or fitted.columns != own:
         raise _refuse("The response comparison does not describe this model's response", part)
     for side in (fitted, other):
         if side.columns != _columns_for(model, side.terms):
