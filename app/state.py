@@ -61,6 +61,11 @@ Session keys (the only ones shared between pages):
     The day-by-day table's edits on the Build-a-scenario page, in °C, for the base path they
     were made on (:func:`day_editor_key`, :func:`day_edits`): they survive the unit switch, which
     gives the table a new widget key.
+``scenario_window``
+    ``{"start": pandas.Timestamp, "days": int}``: the window the planner is working on (first
+    day and length), shared by the scenario builder and the weather ensembles and kept across
+    pages (:func:`prepare_window`, :func:`window_typed`, :func:`window_chosen`). A start that
+    the model in use does not allow (after a new history) is brought back to the earliest one.
 """
 
 from __future__ import annotations
@@ -103,6 +108,7 @@ COMPARE = "compare_choice"
 TYPED = "typed_temperatures"
 DAY_EDITS = "day_edits"
 FIT_FORM_TERMS = "fit_form_terms"
+WINDOW = "scenario_window"
 
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
@@ -119,6 +125,8 @@ LIB_NOTE_WIDGET = "lib_note"
 SHOWN_WIDGET = "cmp_shown"
 BASE_WIDGET = "cmp_base"
 TAIL_WIDGET = "cmp_tail"
+# Keys of the window pickers' first-day and length inputs, per page (app/picker.py).
+WINDOW_WIDGETS = {"scn": ("scn_start", "scn_days"), "ens": ("ens_start", "ens_days")}
 # Days of recorded demand drawn before the scenarios unless the planner chooses otherwise.
 DEFAULT_TAIL_DAYS = 56
 
@@ -747,3 +755,67 @@ def sync_fit_form() -> None:
     for field, key in FIT_TEMPERATURE_WIDGETS.items():
         store[key] = {"c": float(getattr(terms, field)), "unit": None, "put": None}
         session.pop(key, None)
+
+
+# --------------------------------------------------------------------------------------------
+# The scenario window: its first day and length, shared by the builder and the ensembles
+# --------------------------------------------------------------------------------------------
+
+
+def prepare_window(page: str, first: Any, last: Any, default_days: int, max_days: int) -> None:
+    """Before a page's window picker is drawn: show the kept window in its inputs.
+
+    Parameters
+    ----------
+    page : str
+        ``"scn"`` (Build a scenario) or ``"ens"`` (Weather ensembles): which inputs.
+    first, last : date-like
+        The earliest and latest start the model in use allows
+        (``loadcore.scenario.window_limits``); a kept start outside them (after a new history
+        and model) is replaced by ``first``.
+    default_days : int
+        The length before the planner chooses one.
+    max_days : int
+        The longest window (``loadcore.scenario.MAX_DAYS``); a longer kept length is cut to it.
+    """
+    import pandas as pd
+
+    start_key, days_key = WINDOW_WIDGETS[page]
+    session = st.session_state
+    first, last = pd.Timestamp(first).normalize(), pd.Timestamp(last).normalize()
+    kept = dict(session.get(WINDOW) or {"start": first, "days": int(default_days)})
+    start = pd.Timestamp(kept["start"]).normalize()
+    if not first <= start <= last:
+        start = first
+    days = min(max(int(kept["days"]), 1), int(max_days))
+    session[WINDOW] = {"start": start, "days": days}
+    session[start_key] = start.date()
+    session[days_key] = days
+
+
+def window() -> tuple[Any, int] | None:
+    """The kept window: (first day as a pandas Timestamp, length in days), or None."""
+    kept = st.session_state.get(WINDOW)
+    return None if kept is None else (kept["start"], int(kept["days"]))
+
+
+def window_typed(page: str) -> None:
+    """Callback of a window picker's first-day and length inputs: keep what they show."""
+    import pandas as pd
+
+    start_key, days_key = WINDOW_WIDGETS[page]
+    session = st.session_state
+    kept = dict(session.get(WINDOW) or {})
+    if session.get(start_key) is not None:
+        kept["start"] = pd.Timestamp(session[start_key]).normalize()
+    if session.get(days_key) is not None:
+        kept["days"] = int(session[days_key])
+    session[WINDOW] = kept
+
+
+def window_chosen(start: Any, days: int) -> None:
+    """Callback of a quick choice of window (``loadcore.scenario.window_starts``): use its
+    first day and suggested length."""
+    import pandas as pd
+
+    st.session_state[WINDOW] = {"start": pd.Timestamp(start).normalize(), "days": int(days)}

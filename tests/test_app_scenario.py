@@ -26,12 +26,14 @@ def _edit(at, rows: dict) -> None:
     at.run()
 
 
-def test_start_date_is_the_day_after_the_history():
+def test_the_window_starts_the_day_after_the_history_by_default():
     model = demo_model()
     at = _scenario_page()
     assert_no_exception(at)
     start = model.history_end + pd.Timedelta(days=1)
-    assert any(f"{start.date():%A %d %B %Y}" in m for m in texts(at, "markdown"))
+    assert at.date_input(key="scn_start").value == start.date()
+    assert any(f"{start:%A %d %B %Y} to " in c for c in texts(at, "caption"))
+    assert any("starting the day after the history ends" in c for c in texts(at, "caption"))
 
 
 def test_heat_wave_above_the_fitted_range_names_the_right_dates():

@@ -161,9 +161,13 @@ def heat_wave_settings(model) -> dict[str, Any]:
 def build_heat_wave_in_app(at: AppTest, settings: dict[str, Any], name: str = "Heat wave") -> None:
     """Set the Build-a-scenario page's tools for a seasonal-normal path plus a heat wave."""
     at.text_input(key="scn_name").set_value(name)
+    if "start" in settings:
+        at.date_input(key="scn_start").set_value(pd.Timestamp(settings["start"]).date())
     at.number_input(key="scn_days").set_value(settings["days"])
     at.selectbox(key="scn_base").set_value("normal")
-    at.checkbox(key="scn_hw_on").set_value(True)
+    if not at.checkbox(key="scn_hw_on").value:  # its fields are disabled until it is ticked
+        at.checkbox(key="scn_hw_on").set_value(True)
+        at.run()
     at.number_input(key="scn_hw_peak").set_value(round(settings["peak_c"], 1))
     at.number_input(key="scn_hw_top").set_value(settings["at_peak"])
     at.number_input(key="scn_hw_ramp").set_value(settings["ramp"])
@@ -172,10 +176,11 @@ def build_heat_wave_in_app(at: AppTest, settings: dict[str, Any], name: str = "H
 
 
 def heat_wave_by_loadcore(model, settings: dict[str, Any], name: str = "Heat wave"):
-    """The same scenario built with loadcore calls only (what the app must match)."""
+    """The same scenario built with loadcore calls only (what the app must match); the window
+    starts on ``settings["start"]`` when given, else the day after the history."""
     from loadcore.scenario import heat_wave, make_scenario, seasonal_normal_path
 
-    start = model.history_end + pd.Timedelta(days=1)
+    start = settings.get("start", model.history_end + pd.Timedelta(days=1))
     path = seasonal_normal_path(model.history, start, settings["days"])
     path = heat_wave(
         path,

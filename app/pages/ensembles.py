@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
+import pandas as pd
 import streamlit as st
 
-from app import charts, display, state, tables
+from app import charts, display, picker, state, tables
 from loadcore.errors import LoadcoreError
 from loadcore.export import round_for_planners, to_csv_bytes
 from loadcore.weather import ensemble_forecast, ensemble_table
@@ -12,19 +13,20 @@ from loadcore.weather import ensemble_forecast, ensemble_table
 st.title("Weather ensembles")
 fitted = display.need_model()
 st.caption(
-    "Instead of one temperature path, the same calendar window from every past year of the history "
-    "(each also shifted a few days earlier and later) is run through the model with its error "
-    "paths, and all of them are pooled into one spread of outcomes."
+    "Instead of one temperature path, the window's calendar days in every past year of the "
+    "history (each also shifted a few days earlier and later) are run through the model with its "
+    "error paths, and all of them are pooled into one spread of outcomes."
 )
 
+with st.container(border=True):
+    start, days = picker.window_picker("ens", fitted)
 with st.form("ens_form", border=True):
-    a, b, c, d = st.columns(4)
-    days = a.number_input("Days ahead", 1, 90, 30, key="ens_days")
-    shift = b.number_input("Shift each past year by up to (days)", 0, 14, 3, key="ens_shift")
+    a, b, c = st.columns(3)
+    shift = a.number_input("Shift each past year by up to (days)", 0, 14, 3, key="ens_shift")
     warming_c = display.temperature_input(
-        c, "Warming added to every trace", key="ens_warm", default_c=0.0, difference=True
+        b, "Warming added to every trace", key="ens_warm", default_c=0.0, difference=True
     )
-    paths = d.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
+    paths = c.number_input("Error paths per trace", 10, 1000, 200, step=10, key="ens_paths")
     a, b = st.columns(2)
     threshold = a.number_input(
         f"Threshold, {fitted.demand_unit} (0 for none)",
@@ -46,6 +48,7 @@ if run:
         result = ensemble_forecast(
             fitted,
             days=int(days),
+            start=start,
             shift_days=int(shift),
             warming_c=warming_c,
             paths_per_trace=int(paths),
@@ -66,6 +69,10 @@ if result is None:
     display.footer()
     st.stop()
 
+ran = pd.DatetimeIndex(result.daily["date"])
+st.markdown(f"**Ensemble for {ran[0]:%a %d %b %Y} to {ran[-1]:%a %d %b %Y}** ({len(ran)} days).")
+if (ran[0], len(ran)) != (start, int(days)):
+    st.caption("The window above has changed since; press **Run the ensemble** to run it.")
 tail = fitted.history.frame["demand"].iloc[-28:]
 st.plotly_chart(
     theme=None,

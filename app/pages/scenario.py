@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 import streamlit as st
 
-from app import cache, charts, display, state
+from app import cache, charts, display, picker, state
 from app.plain import md
 from loadcore.calendar import BASE_TYPE
 from loadcore.errors import LoadcoreError
@@ -31,27 +31,16 @@ from loadcore.scenario import (
 st.title("Build a scenario")
 fitted = display.need_model()
 unit = display.unit_symbol()
-start = fitted.history_end + pd.Timedelta(days=1)
 low_c, high_c = (float(v) for v in fitted.temperature_range_c)
 
 st.markdown(
-    f"The scenario starts on **{start.date():%A %d %B %Y}**, the day after the history ends. "
-    f"The model was fitted on daily highs from {display.fmt_temp(low_c)} to "
-    f"{display.fmt_temp(high_c)}; days outside that range are flagged."
+    f"Choose the window, then the temperatures. The model's history ends on "
+    f"**{fitted.history_end:%A %d %B %Y}**; it was fitted on daily highs from "
+    f"{display.fmt_temp(low_c)} to {display.fmt_temp(high_c)}, and days outside that range are "
+    "flagged."
 )
-
-left, right = st.columns([2, 1])
 state.default_builder_name("Heat wave")
-name = left.text_input("Scenario name", key=state.NAME_WIDGET, max_chars=80)
-horizon = right.number_input(
-    f"Days (1 to {MAX_DAYS})",
-    min_value=1,
-    max_value=MAX_DAYS,
-    value=14,
-    step=1,
-    key="scn_days",
-    help=f"A scenario covers 1 to {MAX_DAYS} consecutive days.",
-)
+name = st.text_input("Scenario name", key=state.NAME_WIDGET, max_chars=80)
 source = st.radio(
     "Start from",
     ["tools", "set", "file"],
@@ -64,6 +53,11 @@ source = st.radio(
     key=state.SOURCE_WIDGET,
     on_change=state.builder_start_chosen,
 )
+if source == "tools":
+    with st.container(border=True):
+        start, horizon = picker.window_picker("scn", fitted)
+else:
+    st.caption("A scenario from the set or from a file keeps its own dates.")
 
 
 def _days_ok(days: int) -> bool:
@@ -134,14 +128,18 @@ def _from_tools(days: int) -> pd.Series | None:
             value_c = display.temperature_input(st, "Temperature", key="scn_const", default_c=25.0)
             path = constant_path(start, days, value_c)
         elif base_kind == "copy":
-            default = (start - pd.DateOffset(years=1)).date()
-            first = history.start.date()
+            first, latest = history.start, history.end - pd.Timedelta(days=days - 1)
+            years = 1  # the same calendar days in the latest past year the history holds
+            while start - pd.DateOffset(years=years) > latest and years < 3:
+                years += 1
+            default = min(max(start - pd.DateOffset(years=years), first), max(latest, first))
             source_start = st.date_input(
                 "First day of the past period",
-                value=max(default, first),
-                min_value=first,
-                max_value=history.end.date(),
-                key="scn_copy_from",
+                value=default.date(),
+                min_value=first.date(),
+                max_value=max(latest, first).date(),
+                key=f"scn_copy_from_{start:%Y%m%d}_{days}",
+                format="YYYY-MM-DD",
             )
             path = copy_period(history, source_start, start, days)
         else:
