@@ -30,7 +30,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from loadcore import texts
-from loadcore.cli import app, backtest, check, ensemble, fit, forecast, scenario, scenarios
+from loadcore.cli import app, backtest, check, ensemble, fit, forecast, scenario, scenarios, zones
 from loadcore.cli.common import ProgressBar, clip, one_line
 from loadcore.errors import HistoryError, LoadcoreError
 from loadcore.version import __version__
@@ -38,7 +38,7 @@ from loadcore.version import __version__
 log = logging.getLogger(__name__)
 
 #: The sub-commands, in the order ``loadcore --help`` lists them.
-COMMANDS = (check, fit, scenario, forecast, backtest, ensemble, scenarios, app)
+COMMANDS = (check, fit, scenario, forecast, backtest, ensemble, scenarios, zones, app)
 
 
 def _error_line(text: str) -> None:

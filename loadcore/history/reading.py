@@ -200,6 +200,9 @@ def _raw_from_text(text: str, settings: HistorySettings, issues: Collector) -> R
 def _raw_from_frame(
     frame: pd.DataFrame, settings: HistorySettings, issues: Collector
 ) -> RawColumns | None:
+    """The wanted columns of a table; rows are numbered from 1, or by ``frame.attrs["file_rows"]``
+    (one number per row) when the table was cut from a file (a zone of a zones file)."""
+    file_rows = frame.attrs.get("file_rows", ())
     frame = frame.copy()
     lookup = {_norm(c): c for c in frame.columns}
     if _norm(settings.date_col) not in lookup and isinstance(frame.index, pd.DatetimeIndex):
@@ -228,8 +231,11 @@ def _raw_from_frame(
             lambda v: "" if v is None or (isinstance(v, float) and np.isnan(v)) else str(v).strip()
         )
 
+    rows = np.asarray(file_rows, dtype=np.int64)
+    if rows.shape != (len(frame),):  # a plain table: its own row numbers
+        rows = np.arange(1, len(frame) + 1, dtype=np.int64)
     raw = _raw_columns(
-        np.arange(1, len(frame) + 1, dtype=np.int64),
+        rows,
         [prepared(frame[c]) for c in cols],
         [str(c) for c in cols],
         settings,
