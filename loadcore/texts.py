@@ -42,6 +42,13 @@ SUM_CAUTION_TOTAL = (
     "horizon in the history's demand unit."
 )
 
+#: What a system total of zone forecasts is (zones outputs: CLI, CSV, app).
+ZONE_TOTAL_CAUTION = (
+    "The system total adds the zones' daily values: for daily peaks it is the sum of the zone "
+    "peaks, not the coincident system peak, which is usually lower because zones peak at "
+    "different hours."
+)
+
 #: Scenarios of different lengths are not like for like.
 HORIZON_CAUTION = (
     "The scenarios cover different numbers of days, so their sums are not like for like."

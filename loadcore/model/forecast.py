@@ -136,20 +136,39 @@ def coefficient_paths(
 
 
 def simulate_noise(
-    state: EndState, horizon: int, n_paths: int, seed: int | None, skip: int = 0
+    state: EndState,
+    horizon: int,
+    n_paths: int,
+    seed: int | None,
+    skip: int = 0,
+    shocks: np.ndarray | None = None,
 ) -> np.ndarray:
     """Error paths from the end of the history, shape (n_paths, horizon), model scale; the
-    first ``skip`` days after the history (a gap before the window) are simulated and dropped."""
+    first ``skip`` days after the history (a gap before the window) are simulated and dropped.
+
+    ``shocks``, when given, are the standard normal draws behind the shocks entering each window
+    day, shape (horizon, r, n_paths) with r the shock dimension (1 for these models), used in
+    place of the generator's: draws correlated across models (the zones of a system) give paths
+    whose daily shocks keep that correlation. Without a gap the first day's shock is part of the
+    end state's covariance P = T P_filtered T' + R Q R'; it is then drawn as the given shock,
+    and the rest of P from the generator (Durbin and Koopman, 2012, section 4.3).
+    """
     rng = np.random.default_rng(seed)
     T, Z, R = state.transition, state.observation, state.selection
     k = len(state.mean)
-    vals, vecs = np.linalg.eigh((state.covariance + state.covariance.T) / 2)
-    L = vecs * np.sqrt(np.clip(vals, 0, None))
-    a = state.mean[:, None] + L @ rng.standard_normal((k, n_paths))
     qv, qe = np.linalg.eigh(state.shock_covariance)
     LQ = R @ (qe * np.sqrt(np.clip(qv, 0, None)))
-    h_sd = math.sqrt(max(float(state.observation_variance[0, 0]), 0.0))
     skip = int(skip)
+    given = shocks is not None
+    P = (state.covariance + state.covariance.T) / 2
+    if given and skip == 0:
+        P = P - LQ @ LQ.T  # the part of the start state that is not the first day's shock
+    vals, vecs = np.linalg.eigh(P)
+    L = vecs * np.sqrt(np.clip(vals, 0, None))
+    a = state.mean[:, None] + L @ rng.standard_normal((k, n_paths))
+    if given and skip == 0:
+        a = a + LQ @ shocks[0]
+    h_sd = math.sqrt(max(float(state.observation_variance[0, 0]), 0.0))
     out = np.empty((n_paths, horizon))
     for h in range(skip + horizon):
         if h >= skip:
@@ -158,7 +177,12 @@ def simulate_noise(
                 out[:, h - skip] += h_sd * rng.standard_normal(n_paths)
         elif h_sd:
             rng.standard_normal(n_paths)  # the gap's draws, so a window's paths continue the gap's
-        a = T @ a + LQ @ rng.standard_normal((LQ.shape[1], n_paths))
+        entering = h + 1 - skip  # the window day the next state belongs to
+        if given and 0 <= entering < horizon:
+            z = shocks[entering]
+        else:
+            z = rng.standard_normal((LQ.shape[1], n_paths))
+        a = T @ a + LQ @ z
     return out
 
 
