@@ -21,10 +21,13 @@ from test_app_support import (
 
 from loadcore.scenario import (
     MAX_DAYS,
+    Alignment,
     cold_snap,
     constant_path,
     copy_period,
+    copy_same_days,
     make_scenario,
+    same_days_source,
     seasonal_normal_path,
     shift_path,
     window_limits,
@@ -141,6 +144,33 @@ def test_every_path_tool_builds_the_far_window(tool):
     built = _add(at, f"January {tool}")
     assert built == make_scenario(f"January {tool}", expected)
     assert built.start == start
+
+
+@pytest.mark.parametrize("alignment", list(Alignment))
+def test_last_years_same_days_by_date_or_by_weekday(alignment):
+    """Next July from last July's temperatures, lined up by date or by weekday (the planner
+    chooses); the app builds what loadcore.scenario.copy_same_days builds and names the days."""
+    model = demo_model()
+    july = _choice("hottest_month")
+    at = _builder()
+    _quick(at, "hottest_month")
+    at.checkbox(key="scn_hw_on").set_value(False)
+    at.selectbox(key="scn_base").set_value("same_days")
+    at.run()
+    at.radio(key="scn_align").set_value(alignment)
+    at.run()
+    built = _add(at, f"Last July {alignment.name}")
+    expected = copy_same_days(model.history, july.start, july.days, alignment)
+    assert built == make_scenario(f"Last July {alignment.name}", expected)
+    source = same_days_source(model.history, july.start, july.days, alignment)
+    assert source.year == 2026
+    if alignment is Alignment.BY_WEEKDAY:
+        assert source.day_of_week == july.start.day_of_week and source != july.start.replace(
+            year=2026
+        )
+    else:
+        assert source == pd.Timestamp("2026-07-01")
+    assert any(f"Copied from {source:%a %d %b %Y}" in c for c in texts(at, "caption"))
 
 
 def test_the_copy_defaults_to_the_same_days_a_year_before():

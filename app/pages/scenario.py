@@ -16,14 +16,17 @@ from loadcore.export import comparison_figure
 from loadcore.files import check_upload_size
 from loadcore.scenario import (
     MAX_DAYS,
+    Alignment,
     Scenario,
     cold_snap,
     constant_path,
     copy_period,
+    copy_same_days,
     fill_blank_day_types,
     heat_wave,
     make_scenario,
     read_scenario_csv,
+    same_days_source,
     seasonal_normal_path,
     shift_path,
 )
@@ -115,11 +118,12 @@ def _from_tools(days: int) -> pd.Series | None:
     history = fitted.history
     base_kind = st.selectbox(
         "Base path",
-        ["normal", "constant", "copy"],
+        ["normal", "constant", "same_days", "copy"],
         format_func=lambda k: {
             "normal": "seasonal normal (average for these calendar days)",
             "constant": "the same temperature every day",
-            "copy": "a copy of a past period",
+            "same_days": "the same days of the latest earlier year in the history",
+            "copy": "a copy of a past period of your choice",
         }[k],
         key="scn_base",
     )
@@ -127,12 +131,30 @@ def _from_tools(days: int) -> pd.Series | None:
         if base_kind == "constant":
             value_c = display.temperature_input(st, "Temperature", key="scn_const", default_c=25.0)
             path = constant_path(start, days, value_c)
+        elif base_kind == "same_days":
+            alignment = st.radio(
+                "Line the copied days up",
+                list(Alignment),
+                format_func=lambda a: {
+                    Alignment.BY_DATE: "by date (1 July onto 1 July)",
+                    Alignment.BY_WEEKDAY: "by weekday (weekends onto weekends, moved up to 3 days)",
+                }[a],
+                horizontal=True,
+                key="scn_align",
+            )
+            source_start = same_days_source(history, start, days, alignment)
+            path = copy_same_days(history, start, days, alignment)
+            source_end = source_start + pd.Timedelta(days=days - 1)
+            st.caption(
+                f"Copied from {source_start:%a %d %b %Y} to {source_end:%a %d %b %Y} "
+                f"(the history's {source_start:%A} onto the window's {start:%A})."
+            )
         elif base_kind == "copy":
             first, latest = history.start, history.end - pd.Timedelta(days=days - 1)
-            years = 1  # the same calendar days in the latest past year the history holds
-            while start - pd.DateOffset(years=years) > latest and years < 3:
-                years += 1
-            default = min(max(start - pd.DateOffset(years=years), first), max(latest, first))
+            try:  # the same days of the latest earlier year, when the history has them
+                default = same_days_source(history, start, days)
+            except LoadcoreError:
+                default = max(latest, first)
             source_start = st.date_input(
                 "First day of the past period",
                 value=default.date(),
