@@ -14,7 +14,9 @@ parameters, exact fit at the best pair, profile again at the new error parameter
 bases; the exact fit is :func:`loadcore.model.exact.exact_fit` from the chosen model's error
 parameters, so it takes a few steps.
 
-The AICc of a response whose bases were estimated counts the two bases as parameters.
+The AICc of a response whose bases were estimated counts the two bases as parameters. The
+work runs with one BLAS thread (:func:`loadcore.model.workers.single_blas`), as the search does:
+the matrices are small and a multi-threaded BLAS on a shared machine was several times slower.
 """
 
 from __future__ import annotations
@@ -27,7 +29,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import pandas as pd
-from scipy.linalg import LinAlgError
+from scipy.linalg import LinAlgError, cho_factor, cho_solve
 
 from ..errors import LoadcoreError
 from .exact import ExactFit, exact_fit
@@ -35,6 +37,7 @@ from .identify import MIN_DEGREE_DAYS, check_temperature_terms
 from .likelihood import RegressionArima
 from .orders import Orders, aicc
 from .terms import TermSpec
+from .workers import single_blas
 
 log = logging.getLogger(__name__)
 
@@ -50,6 +53,11 @@ BASE_STEP_C = 1.0
 #: Rounds of profile-then-exact-fit for the bases (our choice: a second round moved the bases
 #: on no history we tried by more than one grid step, and a third never).
 PROFILE_ROUNDS = 2
+
+#: Stopping rule of the other response's exact fits (:data:`loadcore.model.exact.EXACT_FTOL`):
+#: the ranking tolerance, whose AICc is within about 0.02 of the final one; far finer than
+#: :data:`MARGIN_AICC`. A response that ``auto`` keeps is refitted at the final tolerance.
+EXACT_TOLERANCE = "rank"
 
 #: The responses by name, and the other one of each.
 OTHER_RESPONSE = {"quadratic": "degree_days", "degree_days": "quadratic"}
@@ -248,24 +256,25 @@ def profile_bases(
     cdd = np.maximum(t[:, None] - cool[None, :], 0.0)
     problem = RegressionArima(y, np.column_stack([fixed, hdd, cdd]), orders)
     wt, _logdet = problem.whiten(np.asarray(arma, float))
+    # Everything below comes from the cross-products of the whitened columns: the fixed columns
+    # (missing-day indicators first) are projected out through their Gram matrix, leaving the
+    # cross-products of the candidate columns and the response orthogonal to them.
     n_fixed = problem.k_missing + fixed.shape[1]
-    q, _ = np.linalg.qr(wt[:, :n_fixed])
-    rest = wt[:, n_fixed:]
-    rest = rest - q @ (q.T @ rest)
-    wh, wc, wy = rest[:, : len(heat)], rest[:, len(heat) : -1], rest[:, -1]
+    gram = wt.T @ wt
+    factor = cho_factor(gram[:n_fixed, :n_fixed], lower=False, check_finite=False)
+    cross = gram[:n_fixed, n_fixed:]
+    rest = gram[n_fixed:, n_fixed:] - cross.T @ cho_solve(factor, cross, check_finite=False)
+    nh = len(heat)
     hi = np.array([np.searchsorted(heat, h) for h, _ in pairs])
     ci = np.array([np.searchsorted(cool, c) for _, c in pairs])
-    a_h, a_c = wh.T @ wy, wc.T @ wy
-    g_hh, g_cc = np.einsum("ij,ij->j", wh, wh), np.einsum("ij,ij->j", wc, wc)
-    g_hc = wh.T @ wc
-    a1, a2 = a_h[hi], a_c[ci]
-    g11, g22, g12 = g_hh[hi], g_cc[ci], g_hc[hi, ci]
+    a1, a2 = rest[hi, -1], rest[nh + ci, -1]
+    g11, g22, g12 = rest[hi, hi], rest[nh + ci, nh + ci], rest[hi, nh + ci]
     det = g11 * g22 - g12 * g12
     ok = det > 1e-12 * np.maximum(g11 * g22, 1e-300)
     explained = np.where(
         ok, (g22 * a1 * a1 - 2 * g12 * a1 * a2 + g11 * a2 * a2) / np.where(ok, det, 1.0), -np.inf
     )
-    rss = float(wy @ wy) - explained
+    rss = float(rest[-1, -1]) - explained
     n = problem.n_obs
     with np.errstate(invalid="ignore", divide="ignore"):
         loglik = np.where(ok & (rss > 0), -0.5 * n * np.log(np.where(rss > 0, rss, 1.0)), -np.inf)
@@ -276,7 +285,7 @@ def profile_bases(
 
 def _exact(y: np.ndarray, frame: pd.DataFrame, orders: Orders, start: np.ndarray) -> ExactFit:
     problem = RegressionArima(y, frame.to_numpy(float), orders)
-    return exact_fit(problem, start=start, covariance=False, tolerance="final")
+    return exact_fit(problem, start=start, covariance=False, tolerance=EXACT_TOLERANCE)
 
 
 def _response_fit(
@@ -335,6 +344,7 @@ def fit_quadratic(
     return _response_fit(spec, frame, fit, False), fit, frame
 
 
+@single_blas
 def fit_other(
     y: np.ndarray,
     build: DesignBuilder,
