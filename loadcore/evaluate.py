@@ -427,7 +427,18 @@ def backtest(
             from loadcore.scenario import Scenario
 
             # Day types left to the model's own calendar (the same one ``types`` came from).
-            scenario = Scenario(name=f"backtest {origin.date()}", dates=target, temperature_c=temps)
+            # The actual daily minima too, when the history has them (for the memory terms).
+            minima = (
+                frame["temperature_min_c"].reindex(target).to_numpy(dtype=float)
+                if "temperature_min_c" in frame
+                else None
+            )
+            scenario = Scenario(
+                name=f"backtest {origin.date()}",
+                dates=target,
+                temperature_c=temps,
+                temperature_min_c=minima,
+            )
             fc = model.forecast(scenario, levels=tuple(lv for lv, _, _ in level_probs)).frame
             table["mean"] = fc["mean"].to_numpy(dtype=float)
             table["median"] = fc["median"].to_numpy(dtype=float)

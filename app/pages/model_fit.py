@@ -87,6 +87,13 @@ with st.form("fit_form", border=True):
         key="fit_harmonics",
     )
     trend = c.toggle("Include growth over the years", value=current.terms.trend, key="fit_trend")
+    memory = c.toggle(
+        "Try temperature memory terms",
+        value=current.terms.memory,
+        key="fit_memory",
+        help="The smoothed temperature of the previous days and, when the history has it, the "
+        "daily minimum; each is kept only when it improves AICc.",
+    )
     a, b = st.columns([1, 2])
     holidays = a.radio(
         "Public holidays",
@@ -140,6 +147,7 @@ if go:
             cooling_base_c=cool_c,
             annual_harmonics=int(harmonics),
             trend=bool(trend),
+            memory=bool(memory),
         )
         settings = FitSettings(
             search=search,
@@ -225,6 +233,7 @@ c.metric("Estimation converged", "yes" if fitted.converged else "no")
 if not fitted.converged:
     st.warning("The estimation did not fully converge; try the thorough search or other settings.")
 st.markdown(fitted.describe_lowest_demand(temp_unit=state.temp_unit()))
+st.markdown(f"Temperature memory: {fitted.describe_memory()}")
 
 # --------------------------------------------------------------------------------------------
 # The temperature response beside the other one (same error model)

@@ -106,6 +106,12 @@ def add_model_options(parser: argparse.ArgumentParser) -> None:
         help="degree-day cooling base, in --temp-unit (24 °C)",
     )
     parser.add_argument(
+        "--no-memory",
+        action="store_true",
+        help="do not try the temperature memory terms (smoothed past temperature, daily "
+        "minimum); by default each is kept only when it improves AICc",
+    )
+    parser.add_argument(
         "--override",
         action="append",
         default=[],
@@ -133,6 +139,8 @@ def fit_settings(args: argparse.Namespace):
         terms["response"] = args.response.replace("-", "_")
     if args.annual_harmonics is not None:
         terms["annual_harmonics"] = args.annual_harmonics
+    if getattr(args, "no_memory", False):
+        terms["memory"] = False
     unit = shown_unit(args)
     for option, field in (("heating_base", "heating_base_c"), ("cooling_base", "cooling_base_c")):
         value = getattr(args, option, None)
@@ -171,6 +179,11 @@ def model_summary(model: Any, out: str, unit: units.Unit) -> dict[str, Any]:
     }
     if unit == "F":
         summary["temperature_range_f"] = [round(float(units.c_to_f(v)), 2) for v in (low, high)]
+    summary["memory_terms"] = {
+        "kept": list(model.memory_terms),
+        "tried": [t.to_dict() for t in model.memory_trials],
+        "text": model.describe_memory(),
+    }
     comparison = model.response_comparison
     if comparison is not None:
         summary["temperature_response"] = {
@@ -226,6 +239,7 @@ def run(args: argparse.Namespace) -> int:
         texts.fitted_range_text(low, high, unit),
         model.describe_lowest_demand(unit),
         *_response_lines(model, unit),
+        model.describe_memory(),
         "",
         "Coefficients:",
         table_text(model.coefficient_table(unit)),

@@ -32,6 +32,7 @@ def read_scenario_csv(
     date_col: str = "date",
     temp_col: str = "temperature",
     day_type_col: str = "day_type",
+    temp_min_col: str = "temperature_min",
     name: str | None = None,
     model_end: Any = None,
     max_days: int = MAX_DAYS,
@@ -53,6 +54,9 @@ def read_scenario_csv(
         Unit of the temperature column; °F is converted to °C on reading.
     date_col, temp_col, day_type_col : str
         Column names (case and surrounding spaces are ignored).
+    temp_min_col : str
+        Optional column of daily minimum temperatures (``temp_unit``), for models that use
+        the daily minimum; a blank cell takes the history's typical max-min spread.
     name : str, optional
         Scenario name; by default the file name without its extension, or "scenario".
     model_end : date-like, optional
@@ -93,6 +97,7 @@ def read_scenario_csv(
         return None
 
     dcol, tcol, ycol = find(date_col, True), find(temp_col, True), find(day_type_col, False)
+    mcol = find(temp_min_col, False)
     if not rows:
         raise ScenarioError(
             "The scenario file has no rows", where=where_file, fix="Add one row per day"
@@ -122,7 +127,50 @@ def read_scenario_csv(
     path = pd.Series(temps, index=pd.DatetimeIndex(dates), dtype=float)
     scenario_name = name or (Path(label).stem if label else "") or "scenario"
     day_types = types if ycol is not None else None
-    return make_scenario(scenario_name, path, day_types, model_end=model_end, max_days=max_days)
+    minima = None
+    if mcol is not None:
+        minima = _minima(
+            rows, mcol, header[mcol].strip(), dates, unit, decision.decimal, where_file
+        )
+    return make_scenario(
+        scenario_name,
+        path,
+        day_types,
+        model_end=model_end,
+        max_days=max_days,
+        temperature_min_c=minima,
+    )
+
+
+def _minima(
+    rows: list[list[str]],
+    col: int,
+    col_name: str,
+    dates: list[pd.Timestamp],
+    unit: units.Unit,
+    decimal: str,
+    where_file: str,
+) -> list[float]:
+    """The minimum column in °C, NaN for blank cells; text that is not a number is an error
+    naming the row (the maxima's decimal mark is used)."""
+    cells = pd.Series(
+        [layout.clean(r[col].strip()) if col < len(r) else "" for r in rows], dtype=object
+    )
+    values = layout.to_numbers(cells, decimal)
+    out = []
+    for i, (cell, value) in enumerate(zip(cells, values, strict=True)):
+        if not np.isfinite(value):
+            if str(cell).strip():
+                raise ScenarioError(
+                    f"The minimum temperature {quote(cell)} is not a number",
+                    where=f"{where_file}, row {i + 1}, date {iso(dates[i])}, column {col_name}",
+                    fix="Give a number or leave the cell blank (blank: from the history's "
+                    "typical max-min spread)",
+                )
+            out.append(float("nan"))
+        else:
+            out.append(units.from_unit(float(value), unit))
+    return out
 
 
 def _records(
@@ -185,7 +233,8 @@ def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
     Returns
     -------
     str
-        Columns ``date``, ``temperature``, ``day_type`` (blank = from the calendar).
+        Columns ``date``, ``temperature``, ``day_type`` (blank = from the calendar), and
+        ``temperature_min`` (blank = from the typical spread) when the scenario has minima.
     """
     unit = units.parse_unit(temp_unit)
     temps = units.to_unit(np.asarray(scenario.temperature_c, dtype=float), unit)
@@ -196,6 +245,9 @@ def write_scenario_csv(scenario: Scenario, *, temp_unit: str = "C") -> str:
             "day_type": list(scenario.day_types) if scenario.day_types else [""] * scenario.horizon,
         }
     )
+    if scenario.temperature_min_c is not None:
+        lows = units.to_unit(np.asarray(scenario.temperature_min_c, dtype=float), unit)
+        frame["temperature_min"] = np.round(np.asarray(lows, dtype=float), 4)
     return frame.to_csv(index=False, lineterminator="\n")
 
 
@@ -212,6 +264,7 @@ def read_scenario_file(
     date_col: str = "date",
     temp_col: str = "temperature",
     day_type_col: str = "day_type",
+    temp_min_col: str = "temperature_min",
     name: str | None = None,
     model_end: Any = None,
     max_days: int = MAX_DAYS,
