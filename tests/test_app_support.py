@@ -324,3 +324,22 @@ def assert_renders_as_plain_text(at: AppTest, payloads: list[str]) -> None:
             assert payload not in s, s
     visible = " ".join(shown(s) for s in strings)
     assert any(p in visible for p in payloads), "no payload is shown at all: nothing was tested"
+
+
+@functools.lru_cache(maxsize=4)
+def other_demo_csv(seed: int = 20261, later_by_days: int = 28) -> bytes:
+    """A second demo history as CSV bytes: the invented generator (demo_data/generate.py) with
+    another seed, its dates moved ``later_by_days`` later (so it ends after the demo history
+    does), as a planner's next month of data would."""
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location(
+        "demo_generate", REPO / "demo_data" / "generate.py"
+    )
+    assert spec is not None and spec.loader is not None
+    generate = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(generate)
+    frame = generate.make_history(seed)
+    dates = pd.to_datetime(frame["date"]) + pd.Timedelta(days=later_by_days)
+    frame = frame.assign(date=dates.dt.strftime("%Y-%m-%d"))
+    return frame.to_csv(index=False).encode("utf-8")
