@@ -178,3 +178,28 @@ def test_a_damaged_selection_is_one_clear_error(memory_model):
     data["design"]["columns"] = [c for c in data["design"]["columns"] if c != "temp_min"]
     with pytest.raises(ModelError):
         load_model(json.dumps(data))
+
+
+def test_a_far_window_and_weather_ensembles_forecast_with_memory_terms(memory_model):
+    """A window 40 days after the history forecasts through the gap; an ensemble's traces each
+    get their own smoothed term (two traces that differ only before the last day differ in the
+    term's column on that last day only)."""
+    from loadcore.weather import ensemble_forecast
+
+    model = memory_model
+    start = model.history.end + pd.Timedelta(days=41)
+    path = pd.Series(
+        np.full(10, 20.0), index=pd.date_range(start, periods=10, freq="D", name="date")
+    )
+    frame = model.forecast(make_scenario("far", path)).frame
+    assert np.isfinite(frame["mean"]).all() and (frame["upper_95"] > frame["lower_95"]).all()
+    first = model.history.end + pd.Timedelta(days=1)
+    dates = pd.date_range(first, periods=5, freq="D", name="date")
+    calm = Scenario("calm", dates, [10.0, 10, 10, 10, 10])
+    spike = Scenario("spike", dates, [10.0, 10, 10, 25, 10])
+    column = model.columns.index("temp_past")
+    a, b = model.scenario_regressors(calm), model.scenario_regressors(spike)
+    np.testing.assert_array_equal(a[:4, column], b[:4, column])
+    assert b[4, column] > a[4, column]
+    result = ensemble_forecast(model, days=14)
+    assert np.isfinite(result.daily["mean"]).all()
