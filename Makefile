@@ -6,6 +6,7 @@ BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 DEMO_HISTORY := demo_data/history.csv
 DEMO_MODEL := demo_data/demo_model.json
+DEMO_OVERRIDES := demo_data/overrides.txt
 PORT ?= 8501
 
 .PHONY: setup chromium demo test bench lint
@@ -27,10 +28,12 @@ chromium:
 		$$SUDO apt-get update && $$SUDO apt-get install -y chromium; \
 	fi
 
-demo: setup
-	@if [ ! -f $(DEMO_MODEL) ]; then \
-		$(BIN)/loadcore fit $(DEMO_HISTORY) --out $(DEMO_MODEL) --search quick; \
-	fi
+# The demo model is refitted when the history or its year-end overrides change.
+$(DEMO_MODEL): $(STAMP) $(DEMO_HISTORY) $(DEMO_OVERRIDES)
+	$(BIN)/loadcore fit $(DEMO_HISTORY) --out $(DEMO_MODEL) --search quick \
+		--override "$$(cat $(DEMO_OVERRIDES))"
+
+demo: setup $(DEMO_MODEL)
 	$(BIN)/loadcore app --port $(PORT)
 
 test: setup chromium

@@ -86,6 +86,7 @@ from loadcore.errors import LoadcoreError
 REPO_ROOT = Path(__file__).resolve().parent.parent
 DEMO_HISTORY = REPO_ROOT / "demo_data" / "history.csv"
 DEMO_MODEL = REPO_ROOT / "demo_data" / "demo_model.json"
+DEMO_OVERRIDES = REPO_ROOT / "demo_data" / "overrides.txt"
 HISTORY_ENV = "LOADCORE_HISTORY"
 # The HistorySettings of that file as JSON (``loadcore app --history FILE --date-col ...``).
 HISTORY_SETTINGS_ENV = "LOADCORE_HISTORY_SETTINGS"
@@ -146,6 +147,15 @@ def demo_history():
     return read_history(DEMO_HISTORY)
 
 
+@st.cache_resource(show_spinner=False)
+def demo_calendar() -> CalendarSpec:
+    """The demo's calendar: US holidays and the demo's year-end low-load period
+    (demo_data/overrides.txt, written by demo_data/generate.py)."""
+    from loadcore.calendar import overrides_from_text
+
+    return CalendarSpec(overrides=overrides_from_text(DEMO_OVERRIDES.read_text(encoding="utf-8")))
+
+
 @st.cache_resource(show_spinner="Loading the pre-fitted demo model...")
 def demo_model(history_fingerprint: str):
     """The pre-fitted demo model when demo_data/demo_model.json exists and matches the history.
@@ -161,6 +171,8 @@ def demo_model(history_fingerprint: str):
     except LoadcoreError:
         return None
     if model.history.fingerprint != history_fingerprint:
+        return None
+    if model.settings.calendar != demo_calendar():  # fitted without the year-end period
         return None
     return model
 
@@ -214,7 +226,7 @@ def init_state() -> list[tuple[LoadcoreError, str]]:
         state.setdefault(CALENDAR, fitted.settings.calendar)
     state.setdefault(HISTORY_SOURCE, DEMO_SOURCE)
     if CALENDAR not in state:
-        state[CALENDAR] = CalendarSpec()
+        state[CALENDAR] = demo_calendar() if using_demo_data() else CalendarSpec()
     if FIT_SETTINGS not in state:
         from loadcore.model import FitSettings
 
@@ -300,8 +312,9 @@ def use_history(new, source: str) -> None:
 
 
 def use_demo_history() -> None:
-    """Go back to the demo history."""
+    """Go back to the demo history, with the demo's calendar for the next fit."""
     use_history(demo_history(), DEMO_SOURCE)
+    st.session_state[CALENDAR] = demo_calendar()
 
 
 def use_calendar(spec: CalendarSpec) -> None:

@@ -2,7 +2,7 @@
 
 Run from the repository root::
 
-    python demo_data/generate.py                 # writes demo_data/history.csv and truth.json
+    python demo_data/generate.py                 # writes history.csv, truth.json, overrides.txt
     python demo_data/generate.py --out-dir /tmp  # somewhere else
 
 Everything here is invented. The true parameters are kept in ``TRUTH`` below and written verbatim
@@ -193,6 +193,39 @@ def true_day_types(dates: pd.DatetimeIndex) -> np.ndarray:
     return types
 
 
+#: Years after the history's end the year-end overrides run on: scenario windows reach 24
+#: months past the history plus a 92-day window (loadcore.scenario's window limits).
+OVERRIDE_YEARS_AHEAD = 2
+
+OVERRIDES_HEADER = (
+    "# The demo's year-end low-load period as loadcore calendar overrides (written by\n"
+    "# demo_data/generate.py): the working days from 24 December to 1 January, the days the\n"
+    "# generator gives the year_end effect, for the history's years and the years a scenario\n"
+    '# window can reach. Give them to a fit with --override "$(cat demo_data/overrides.txt)".\n'
+)
+
+
+def year_end_overrides() -> list[str]:
+    """Override lines (``START[..END] year_end Year-end low load``) covering exactly the days
+    :func:`true_day_types` calls ``year_end``, from the history's start to the last year-end
+    period a scenario window can reach."""
+    last = pd.Timestamp(END) + pd.DateOffset(years=OVERRIDE_YEARS_AHEAD)
+    dates = pd.date_range(START, pd.Timestamp(year=last.year + 1, month=1, day=31), freq="D")
+    is_year_end = true_day_types(dates) == "year_end"
+    lines, run_start = [], None
+    for i, flag in enumerate(is_year_end):
+        if flag and run_start is None:
+            run_start = dates[i]
+        if run_start is not None and (not flag or i == len(dates) - 1):
+            run_end = dates[i] if flag else dates[i - 1]
+            span = f"{run_start:%Y-%m-%d}"
+            if run_end != run_start:
+                span += f"..{run_end:%Y-%m-%d}"
+            lines.append(f"{span} year_end Year-end low load")
+            run_start = None
+    return lines
+
+
 def make_errors(rng: np.random.Generator, n: int) -> np.ndarray:
     """Multiplicative (log-scale) AR(1) x weekly seasonal AR(1) errors, burnt in."""
     phi, big_phi, sigma = TRUTH["ar1"], TRUTH["seasonal_ar1"], TRUTH["sigma"]
@@ -244,7 +277,8 @@ def truth_record(seed: int = SEED) -> dict:
 
 
 def write(out_dir: Path, seed: int = SEED) -> tuple[Path, Path]:
-    """Write history.csv and truth.json into ``out_dir``; returns both paths."""
+    """Write history.csv, truth.json and overrides.txt into ``out_dir``; returns the first two
+    paths."""
     out_dir.mkdir(parents=True, exist_ok=True)
     frame = make_history(seed)
     lines = ["date,demand,temperature"]
@@ -256,7 +290,11 @@ def write(out_dir: Path, seed: int = SEED) -> tuple[Path, Path]:
     csv_path.write_bytes(("\n".join(lines) + "\n").encode("utf-8"))
     truth_path = out_dir / "truth.json"
     truth_path.write_bytes((json.dumps(truth_record(seed), indent=2) + "\n").encode("utf-8"))
-    logger.info("wrote %s (%d days) and %s", csv_path, len(frame), truth_path)
+    overrides_path = out_dir / "overrides.txt"
+    overrides_path.write_bytes(
+        (OVERRIDES_HEADER + "\n".join(year_end_overrides()) + "\n").encode("utf-8")
+    )
+    logger.info("wrote %s (%d days), %s and %s", csv_path, len(frame), truth_path, overrides_path)
     return csv_path, truth_path
 
 
@@ -266,7 +304,7 @@ def main(argv: list[str] | None = None) -> None:
         "--out-dir",
         type=Path,
         default=Path(__file__).resolve().parent,
-        help="folder for history.csv and truth.json (default: demo_data/)",
+        help="folder for history.csv, truth.json and overrides.txt (default: demo_data/)",
     )
     parser.add_argument("--seed", type=int, default=SEED, help="random seed")
     args = parser.parse_args(argv)

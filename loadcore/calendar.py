@@ -41,6 +41,7 @@ __all__ = [
     "holiday_names",
     "normalise_type_name",
     "overrides_from_text",
+    "overrides_without_history",
     "parse_holidays",
 ]
 
@@ -442,6 +443,40 @@ def day_types(dates: Iterable[Any] | pd.DatetimeIndex | pd.Series, spec: Calenda
             mask = (day_values >= lo) & (day_values <= hi)
             values[mask] = _override_type(spec, override)
     return pd.Series(values.astype(str), index=index, name="day_type", dtype=object)
+
+
+def overrides_without_history(
+    spec: CalendarSpec, dates: Iterable[Any] | pd.DatetimeIndex
+) -> tuple[Override, ...]:
+    """The overrides whose effect a history on ``dates`` cannot estimate: none of their days
+    is in the history (for example one that lies wholly after it) and no history day has their
+    day type through another override. A model fitted on that history has no coefficient for
+    them, so a scenario on their days is refused.
+
+    Parameters
+    ----------
+    spec : CalendarSpec
+        The calendar, with its overrides.
+    dates : DatetimeIndex or iterable of dates
+        The history's days.
+
+    Returns
+    -------
+    tuple of Override
+        In the calendar's order; empty when every override's type is seen in the history.
+    """
+    if not spec.overrides:
+        return ()
+    index = _as_index(dates).normalize()
+    present = set(day_types(index, spec))
+    days = index.values.astype("datetime64[D]")
+    out = []
+    for override in spec.overrides:
+        lo, hi = np.datetime64(override.start, "D"), np.datetime64(override.end, "D")
+        covered = bool(((days >= lo) & (days <= hi)).any())
+        if not covered and _override_type(spec, override) not in present:
+            out.append(override)
+    return tuple(out)
 
 
 def holiday_names(

@@ -90,6 +90,19 @@ def growth_note(months: float) -> str:
     )
 
 
+def override_warning(
+    day_type: str, start: str, end: str, history_start: str, history_end: str
+) -> str:
+    """An override with no day in the history (and whose day type no history day has)."""
+    span = start if start == end else f"{start} to {end}"
+    return (
+        f"The calendar override '{day_type}' ({span}) has no day in the history ({history_start} "
+        f"to {history_end}), so its effect cannot be estimated and a scenario on its days "
+        "cannot be forecast. Add the same kind of period in past years to the overrides, or "
+        "remove it"
+    )
+
+
 def heat_note(peak_c: float, unit: Unit) -> str:
     """The public-safety note for a scenario with days at or above :data:`HEAT_HEALTH_C`."""
     return (

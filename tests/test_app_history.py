@@ -15,7 +15,7 @@ from test_app_support import (
     texts,
 )
 
-from loadcore.calendar import CalendarSpec, day_type_label, day_types
+from loadcore.calendar import day_type_label, day_types
 from loadcore.errors import HistoryError
 from loadcore.history import HistorySettings, read_history
 
@@ -49,7 +49,10 @@ def test_opens_on_the_demo_data_with_both_charts():
 def test_day_type_counts_come_from_the_calendar():
     at = new_app(page="pages/history.py")
     shown = at.dataframe[-1].value
-    expected = day_types(demo_history().frame.index, CalendarSpec()).value_counts()
+    calendar = at.session_state["calendar_spec"]
+    assert calendar.overrides, "the demo history comes with the demo's year-end period"
+    expected = day_types(demo_history().frame.index, calendar).value_counts()
+    assert expected["year_end"] > 0
     for name, count in expected.items():
         assert int(shown[name].iloc[0]) == int(count)
 

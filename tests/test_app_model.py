@@ -24,7 +24,9 @@ def test_the_fit_through_the_app_uses_the_quick_search_and_shows_progress():
     model, seen = fitted_through_app()
     assert not seen["exceptions"] and not seen["errors"], seen
     assert model.settings.search == "quick"
-    assert model.settings == FitSettings()
+    import app.state as app_state
+
+    assert model.settings == FitSettings(calendar=app_state.demo_calendar())
     assert model.history.fingerprint == demo_history().fingerprint
     value, text = seen["progress"][-1]
     assert value == 100  # the bar ends full (AppTest reports percent)
@@ -120,18 +122,43 @@ def test_the_app_opens_ready_on_a_matching_pre_fitted_demo_model(tmp_path, monke
         app_state.demo_model.clear()
 
 
+def test_the_demo_model_has_the_demo_year_end_period(tmp_path, monkeypatch):
+    """Issue 10, defect 11: a fit on the demo data uses the demo's year-end overrides
+    (demo_data/overrides.txt), and a pre-fitted demo model without them is not used."""
+    import app.state as app_state
+    from loadcore.model import FitSettings, fit
+
+    model, _ = fitted_through_app()
+    assert "type_year_end" in model.columns
+    assert model.settings.calendar == app_state.demo_calendar()
+    stale = fit(model.history, FitSettings(search="quick"), orders=model.orders)
+    path = tmp_path / "demo_model.json"
+    stale.save(path)
+    monkeypatch.setattr(app_state, "DEMO_MODEL", path)
+    app_state.demo_model.clear()
+    try:
+        at = new_app(page="pages/model_fit.py")
+        assert_no_exception(at)
+        assert at.session_state["model"] is None
+        assert at.session_state["calendar_spec"] == app_state.demo_calendar()
+    finally:
+        app_state.demo_model.clear()
+
+
 def _press_fit(at) -> None:
     [b for b in at.get("button") if getattr(b, "label", "") == "Fit the model"][0].click()
     at.run()
 
 
 def test_a_bad_calendar_code_is_refused_and_the_calendar_kept():
+    import app.state as app_state
+
     at = new_app(page="pages/model_fit.py", extra={"model": None})
     at.text_input(key="fit_holiday_code").set_value("ZZ")
     _press_fit(at)
     assert_no_exception(at)
     assert any("ZZ" in e for e in texts(at, "error"))
-    assert at.session_state["calendar_spec"] == CalendarSpec()
+    assert at.session_state["calendar_spec"] == app_state.demo_calendar()
 
 
 def test_a_blank_holiday_code_is_refused_rather_than_read_as_a_country():
@@ -149,7 +176,11 @@ def test_a_blank_holiday_code_is_refused_rather_than_read_as_a_country():
 
 
 def test_no_public_holidays_can_be_chosen_and_fitted():
-    """'No public holidays' fits with CalendarSpec(country=None): no holiday day type at all."""
+    """'No public holidays' fits with CalendarSpec(country=None): no holiday day type at all
+    (the demo's year-end overrides stay: the history is the demo's)."""
+    import app.state as app_state
+
+    no_holidays = CalendarSpec(country=None, overrides=app_state.demo_calendar().overrides)
     frame = demo_history().frame.iloc[-730:]
     short = history_from_frame(frame[["demand", "temperature_c", "temperature_filled"]])
     at = new_app(page="pages/model_fit.py", extra={"model": None, "history": short})
@@ -162,8 +193,8 @@ def test_no_public_holidays_can_be_chosen_and_fitted():
     assert not texts(at, "error")
     fitted = at.session_state["model"]
     assert fitted is not None and fitted.history.fingerprint == short.fingerprint
-    assert fitted.settings.calendar == CalendarSpec(country=None)
-    assert at.session_state["calendar_spec"] == CalendarSpec(country=None)
+    assert fitted.settings.calendar == no_holidays
+    assert at.session_state["calendar_spec"] == no_holidays
     assert "holiday" not in fitted.day_type_levels
     assert "holiday" in set(day_types(short.frame.index, CalendarSpec()))  # the US would have had
     assert at.radio(key="fit_holidays").value == "none"

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as dt
 import json
+from pathlib import Path
 
 import holidays
 import numpy as np
@@ -302,3 +303,37 @@ def test_type_names_fold_full_width_and_accented_letters():
     assert normalise_type_name("Fête nationale") == "fete_nationale"
     with pytest.raises(InputError, match="no letters or digits of the Latin alphabet"):
         normalise_type_name("日本")
+
+
+def test_overrides_without_history_days_are_named():
+    """Issue 10, defect 11: an override wholly after (or before) the history, whose day type no
+    history day has, cannot be estimated; one whose type the history has through an earlier
+    override can."""
+    from loadcore.calendar import overrides_without_history
+
+    history = pd.date_range("2024-01-01", "2026-11-29", freq="D")
+    after = Override("2027-12-24", "2028-01-01", "shutdown")
+    before = Override("2019-07-01", "2019-07-05", "bridge")
+    inside = Override("2025-12-24", "2026-01-01", "year_end")
+    future = Override("2026-12-24", "2027-01-01", "year_end")
+    spec = CalendarSpec(overrides=(inside, future, after, before))
+    assert overrides_without_history(spec, history) == (after, before)
+    assert overrides_without_history(CalendarSpec(overrides=(inside,)), history) == ()
+    assert overrides_without_history(CalendarSpec(), history) == ()
+
+
+def test_a_fit_warns_about_an_override_after_the_history(tmp_path, capsys):
+    """The fit keeps the warning (FittedModel.calendar_warnings) and ``loadcore fit`` prints it,
+    with the override's dates and the history's."""
+    from loadcore.cli import main
+    from loadcore.model import load_model
+
+    history = Path(__file__).resolve().parent.parent / "demo_data" / "history.csv"
+    out = tmp_path / "m.json"
+    argv = ["fit", str(history), "--out", str(out), "--override", "2027-12-24..2028-01-01 shutdown"]
+    assert main(argv) == 0
+    printed = capsys.readouterr().out
+    line = next(x for x in printed.splitlines() if x.startswith("warning:"))
+    assert "'shutdown' (2027-12-24 to 2028-01-01) has no day in the history" in line
+    assert "2021-01-01 to 2026-11-29" in line and "cannot be estimated" in line
+    assert load_model(out).calendar_warnings() == [line.removeprefix("warning: ").rstrip(".")]

@@ -44,7 +44,7 @@ def test_regenerating_gives_the_same_bytes(repo_root, tmp_path):
         check=True,
         capture_output=True,
     )
-    for name in ("history.csv", "truth.json"):
+    for name in ("history.csv", "truth.json", "overrides.txt"):
         assert (tmp_path / name).read_bytes() == (repo_root / "demo_data" / name).read_bytes()
 
 
@@ -145,6 +145,53 @@ def test_generator_day_types_agree_with_the_calendar(demo_frame):
     calendar = day_types(demo_frame.index, CalendarSpec())
     ordinary = demo_frame["true_type"] != "year_end"
     assert (calendar[ordinary] == demo_frame.loc[ordinary, "true_type"]).all()
+
+
+def _demo_overrides(repo_root):
+
+    return (repo_root / "demo_data" / "overrides.txt").read_text(encoding="utf-8")
+
+
+def test_the_demo_overrides_are_the_generators_year_end_days(repo_root, generator):
+    """Issue 10, defect 11: with demo_data/overrides.txt loadcore's day types are the
+    generator's on every day, the year-end period included, from the history's start to the
+    last year-end period a scenario window can reach (24 months on)."""
+    from loadcore.calendar import overrides_from_text
+
+    spec = CalendarSpec(overrides=overrides_from_text(_demo_overrides(repo_root)))
+    dates = pd.date_range(generator.START, "2029-01-31", freq="D")
+    ours = day_types(dates, spec).to_numpy()
+    theirs = generator.true_day_types(dates)
+    assert (ours == theirs).all(), dates[ours != theirs][:5]
+    assert (theirs == "year_end").sum() > 20
+
+
+def test_the_demo_model_has_the_year_end_period(repo_root, demo_history, tmp_path, capsys):
+    """The demo model is fitted as ``make demo`` fits it (with the overrides file), and then
+    has a year-end effect near the generator's -0.10 (within three standard errors), no
+    warning, and forecasts the coming year-end period with it."""
+    from loadcore.cli import main
+    from loadcore.model import load_model
+    from loadcore.scenario import make_scenario, seasonal_normal_path
+
+    recipe = (repo_root / "Makefile").read_text()
+    assert "$(DEMO_MODEL): $(STAMP) $(DEMO_HISTORY) $(DEMO_OVERRIDES)" in recipe
+    assert '--override "$$(cat $(DEMO_OVERRIDES))"' in recipe
+    out = tmp_path / "demo_model.json"
+    history = str(repo_root / "demo_data" / "history.csv")
+    argv = ["fit", history, "--out", str(out), "--search", "quick"]
+    assert main([*argv, "--override", _demo_overrides(repo_root)]) == 0
+    assert "warning" not in capsys.readouterr().out
+    model = load_model(out)
+    assert "type_year_end" in model.columns and not model.calendar_warnings()
+    table = model.coefficient_table()
+    row = table[table["term"].str.contains("year-end")].iloc[0]
+    assert abs(row["estimate"] - (-0.10)) < 3 * row["std_error"]
+    start = pd.Timestamp("2026-12-20")
+    fc = model.forecast(make_scenario("year end", seasonal_normal_path(model.history, start, 18)))
+    frame = fc.frame.set_index("date")
+    assert frame.loc["2026-12-28", "day_type"] == "year_end"
+    assert frame.loc["2026-12-25", "day_type"] == "holiday"
 
 
 def _true_regressors(frame: pd.DataFrame, truth: dict) -> pd.DataFrame:

@@ -219,6 +219,8 @@ if fitted.history.fingerprint != history.fingerprint:
         icon=":material/sync_problem:",
     )
 st.subheader("The fitted model")
+for text in fitted.calendar_warnings():
+    st.warning(md(text) + ".", icon=":material/event_busy:")
 st.markdown(fitted.describe_errors())
 a, b, c = st.columns(3)
 a.metric("AICc", f"{fitted.aicc:,.1f}", help="Lower is better, for the same data and settings.")

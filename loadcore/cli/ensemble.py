@@ -32,6 +32,7 @@ def run(args: argparse.Namespace) -> int:
         result = ensemble_forecast(
             model,
             days=args.days,
+            start=args.start,
             shift_days=DEFAULT_SHIFT_DAYS if args.shift_days is None else args.shift_days,
             warming_c=float(units.delta_from_unit(args.warming, unit)),
             paths_per_trace=args.paths,
@@ -76,13 +77,19 @@ def add(sub: Any) -> None:
         "ensemble",
         help="demand quantiles for the coming days from past years' weather",
         description=(
-            "Forecast the days after a saved model's history with temperature traces taken from "
+            "Forecast a window of days after a saved model's history with temperature traces taken from "
             "the same weeks of past years (shifted by a few days), plus the model's error paths. "
             + texts.PLANNING_CAUTION
         ),
     )
     parser.add_argument("model", metavar="MODEL.json", help="a model saved by loadcore")
     parser.add_argument("--days", type=whole_number, default=30, help="window length in days (30)")
+    parser.add_argument(
+        "--start",
+        default=None,
+        metavar="YYYY-MM-DD",
+        help="first day of the window, up to 24 months after the history (the day after it)",
+    )
     parser.add_argument(
         "--shift-days",
         type=whole_number,

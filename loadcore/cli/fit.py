@@ -12,6 +12,7 @@ from loadcore.cli.common import (
     history_options,
     history_settings,
     number,
+    one_line,
     require_file,
     require_output,
     say,
@@ -176,6 +177,7 @@ def model_summary(model: Any, out: str, unit: units.Unit) -> dict[str, Any]:
         "history_end": model.history_end,
         "temperature_range_c": [round(low, 2), round(high, 2)],
         "fingerprint": model.fingerprint,
+        "calendar_warnings": model.calendar_warnings(),
     }
     if unit == "F":
         summary["temperature_range_f"] = [round(float(units.c_to_f(v)), 2) for v in (low, high)]
@@ -246,6 +248,8 @@ def run(args: argparse.Namespace) -> int:
         "",
         texts.PLANNING_CAUTION,
     ]
+    for text in reversed(model.calendar_warnings()):
+        lines.insert(3, f"warning: {one_line(text)}.")
     if not summary["converged"]:
         lines.insert(
             3,

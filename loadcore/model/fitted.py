@@ -28,7 +28,7 @@ import pandas as pd
 
 from .. import files, texts, units
 from .. import levels as interval_levels
-from ..calendar import CalendarSpec, day_types
+from ..calendar import CalendarSpec, day_types, overrides_without_history
 from ..errors import ModelError, ScenarioError
 from ..history import History
 from ..scenario import Scenario
@@ -213,6 +213,17 @@ class FittedModel:
     @property
     def calendar(self) -> CalendarSpec:
         return self.settings.calendar
+
+    def calendar_warnings(self) -> list[str]:
+        """One warning per calendar override whose effect the history cannot estimate (no
+        history day in it, its day type seen on no history day; see
+        :func:`loadcore.calendar.overrides_without_history`)."""
+        index = pd.DatetimeIndex(self.history.frame.index)
+        first, last = f"{index[0]:%Y-%m-%d}", f"{index[-1]:%Y-%m-%d}"
+        return [
+            texts.override_warning(o.day_type, o.start.isoformat(), o.end.isoformat(), first, last)
+            for o in overrides_without_history(self.calendar, index)
+        ]
 
     # ---- regression pieces ----------------------------------------------------------------
     @property

@@ -271,5 +271,7 @@ def fit(
         memory_trials=memory.trials,
     )
     model._keep_statsmodels_results(run.results)
+    for text in model.calendar_warnings():
+        log.info("%s", text)  # the model keeps it: FittedModel.calendar_warnings()
     log.info("fitted %s, AICc %.2f", best.orders.describe(), model.aicc)
     return model
