@@ -227,3 +227,51 @@ def test_the_builders_work_for_a_far_window(demo_model):
         fc = demo_model.forecast(make_scenario("far", path, model_end=demo_model.history_end))
         assert fc.frame["date"].iloc[0] == start and len(fc.frame) == 30
     assert (hot.iloc[6:12] == 41.0).all()
+
+
+def test_a_far_window_matches_the_reference_filter_through_the_gap():
+    """The variance and median of a window 150 days after the history equal days 151-164 of
+    statsmodels' SARIMAX forecast with the regression coefficients in the state
+    (``mle_regression=False``; the reference of tests/test_model_intervals.py: Harvey, 1989,
+    section 3.4; Durbin and Koopman, 2012, section 6.2) run through the gap, at the same error
+    parameters (1e-4 relative on the standard deviation, 5e-5 on the log median)."""
+    import warnings
+
+    from scipy import stats
+    from statsmodels.tsa.statespace.sarimax import SARIMAX
+
+    from loadcore.model import FitSettings, Orders, fit
+    from loadcore.model.simulate import ErrorTruth, simulated_history
+
+    truth = ErrorTruth(Orders(1, 0, 0, 1, 0, 0), (0.8, 0.2), sigma=0.015)
+    sim = simulated_history(truth, n_days=800, missing_fraction=0.03, seed=3)
+    history = sim.to_history()
+    model = fit(history, FitSettings(), orders=truth.orders)
+    gap, days = 150, 14
+    all_dates = pd.date_range(model.history_end + pd.Timedelta(days=1), periods=gap + days)
+    temps = 15.0 + 8.0 * np.sin(np.arange(gap + days) / 20.0)
+
+    def rows(dates, t):
+        return model.regressors(dates, t, model.calendar_types(dates).to_numpy(dtype=object))
+
+    frame = history.frame
+    X = rows(frame.index, frame["temperature_c"].to_numpy(float))
+    Xf = rows(all_dates, temps)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        ref = (
+            SARIMAX(
+                np.log(frame["demand"].to_numpy(float)),
+                exog=X,
+                order=model.orders.order,
+                seasonal_order=model.orders.seasonal_order,
+                mle_regression=False,
+            )
+            .filter(model.params[len(model.columns) :])
+            .get_forecast(gap + days, exog=Xf)
+        )
+    scenario = Scenario("far", all_dates[gap:], temps[gap:])
+    fc = model.forecast(scenario, levels=(80,)).frame
+    sd = (np.log(fc["upper_80"].to_numpy()) - np.log(fc["median"].to_numpy())) / stats.norm.ppf(0.9)
+    np.testing.assert_allclose(sd, np.sqrt(ref.var_pred_mean[gap:]), rtol=1e-4)
+    np.testing.assert_allclose(np.log(fc["median"]), ref.predicted_mean[gap:], rtol=0, atol=5e-5)
