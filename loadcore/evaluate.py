@@ -148,7 +148,8 @@ class BacktestResult:
         interval) per level, ``pinball`` (MW, averaged over the interval bounds and the median)
         and ``crps`` (MW).
     summary : dict
-        The same measures over all days, plus the set-up (mode, origins, orders, ...).
+        The same measures over all days, plus the set-up (mode, origins, orders, the memory
+        terms the first fit kept, ...).
     pit : ndarray
         PIT value of every scored day, for a histogram (:func:`loadcore.scores.pit_histogram`).
     forecasts : pandas.DataFrame
@@ -494,6 +495,7 @@ def backtest(
         "last_origin": str(dates[-1].date()),
         "refit": refit,
         "orders": orders,
+        "memory_terms": list(getattr(base, "memory_terms", ())),
         "levels": [lv for lv, _, _ in level_probs],
         **overall,
         "skill_vs_naive": 1.0 - overall["mase"] / overall["naive_mase"]

@@ -203,3 +203,11 @@ def test_a_far_window_and_weather_ensembles_forecast_with_memory_terms(memory_mo
     assert b[4, column] > a[4, column]
     result = ensemble_forecast(model, days=14)
     assert np.isfinite(result.daily["mean"]).all()
+
+
+def test_the_brief_s_model_summary_says_which_memory_terms_were_kept(memory_model):
+    from loadcore.export import summarise_model
+
+    summary = summarise_model(memory_model)
+    assert summary["Temperature memory"] == memory_model.describe_memory()
+    assert summary["Temperature memory"].startswith("Kept the smoothed past temperature and")

@@ -282,6 +282,9 @@ def summarise_model(model: Any, temp_unit: str = "C") -> dict[str, str]:
         if text:
             out["Error model in words"] = str(text)
     out.update(_response_rows(model, temp_unit))
+    memory = getattr(model, "describe_memory", None)
+    if callable(memory) and getattr(model, "memory_trials", ()):
+        out["Temperature memory"] = str(memory())
     fingerprint = getattr(model, "fingerprint", None)
     if fingerprint:
         out["Model fingerprint"] = str(fingerprint)[:16]

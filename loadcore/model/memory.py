@@ -4,7 +4,10 @@
 memory terms, each memory group (:data:`loadcore.model.terms.MEMORY_GROUPS`: the smoothed past
 temperature; the daily minimum where the history has it) is added in turn and the model refitted
 by exact maximum likelihood with the same error orders (started from the chosen model's error
-parameters). The group that lowers AICc most is kept, and the others are tried again on top of it
+parameters; trials at the ranking tolerance of the search, the kept one polished at the final
+tolerance with its covariance; one BLAS thread, as the search: on a shared machine a
+multi-threaded BLAS made these small fits several times slower). The group that lowers AICc
+most is kept, and the others are tried again on top of it
 (forward selection); a group is kept only when it lowers AICc. Every trial is reported
 (:class:`MemoryTrial`), so the fit text, the Model page and the model file say what was tried
 and what was kept. AICc is comparable across the trials: same response, same days, same error
@@ -32,6 +35,7 @@ from ..scenario.paths import seasonal_normal_path
 from .exact import ExactFit, exact_fit
 from .likelihood import RegressionArima, identified_columns
 from .terms import MEMORY_GROUPS, TermSpec, kept_groups, memory_terms, temperature_terms
+from .workers import single_blas
 
 log = logging.getLogger(__name__)
 
@@ -110,6 +114,7 @@ def _combined(base: pd.DataFrame, extras: dict[str, pd.DataFrame], groups) -> pd
     return pd.concat(parts, axis=1)
 
 
+@single_blas
 def choose_memory(
     y: np.ndarray,
     base: pd.DataFrame,
@@ -151,7 +156,7 @@ def choose_memory(
             frame = frame.loc[:, keep]
             problem = RegressionArima(y, frame.to_numpy(), chosen.orders)
             try:
-                trial = exact_fit(problem, current_fit.arma, covariance=True, tolerance="final")
+                trial = exact_fit(problem, current_fit.arma, covariance=False, tolerance="rank")
             except (np.linalg.LinAlgError, ValueError) as err:  # a singular design
                 log.info("memory trial %s failed: %s", groups, err)
                 trial = None
@@ -170,6 +175,16 @@ def choose_memory(
         remaining.remove(best_group)
     frame = _combined(base, extras, current)
     frame = frame.loc[:, identified_columns(frame.to_numpy(), d, D)]
+    kept_fit = current_fit
+    if current:  # the kept trial polished at the final tolerance, with its covariance
+        problem = RegressionArima(y, frame.to_numpy(), chosen.orders)
+        polished = exact_fit(problem, current_fit.arma, covariance=True, tolerance="final")
+        if polished.usable and polished.loglik >= current_fit.loglik - 1e-6:
+            current_fit = polished
+        else:
+            log.warning("polish of the memory terms' fit failed: %s", polished.note)
+            current_fit = exact_fit(problem, current_fit.arma, covariance=True, tolerance="rank")
+        trials = [(g, current_fit if f is kept_fit else f) for g, f in trials]
     table = tuple(
         MemoryTrial(
             groups,
