@@ -44,6 +44,7 @@ from .search import candidate_table, search_orders
 from .settings import FitSettings, Progress
 from .statespace import run_filter
 from .terms import TermSpec, design_matrix, model_response
+from .workers import one_blas_thread
 
 log = logging.getLogger(__name__)
 
@@ -213,7 +214,8 @@ def fit(
             # The other response wins: refit it with its covariance from its own optimum.
             X_df = other[2]
             X = X_df.to_numpy()
-            best = exact_fit(RegressionArima(y, X, best.orders), start=other[1].arma)
+            with one_blas_thread():
+                best = exact_fit(RegressionArima(y, X, best.orders), start=other[1].arma)
             settings = dataclasses.replace(settings, terms=other_fit.terms)
             own, other_fit = other_fit, own
         comparison = other_response.comparison(asked, own, other_fit, started)

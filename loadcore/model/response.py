@@ -50,8 +50,9 @@ MARGIN_AICC = 10.0
 #: accuracy with which a daily history fixes a base).
 BASE_STEP_C = 1.0
 
-#: Rounds of profile-then-exact-fit for the bases (our choice: a second round moved the bases
-#: on no history we tried by more than one grid step, and a third never).
+#: Rounds of profile-then-exact-fit for the bases (our choice: the second round re-profiles at
+#: the degree-day fit's own error parameters; on the demo and the simulated histories of
+#: benchmarks/bench_response.py it kept the first round's pair).
 PROFILE_ROUNDS = 2
 
 #: Stopping rule of the other response's exact fits (:data:`loadcore.model.exact.EXACT_FTOL`):
