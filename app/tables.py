@@ -30,6 +30,13 @@ def _interval_columns(columns: Iterable[str], demand_unit: str) -> dict[str, Any
     """``lower_80`` -> "80 % low, MW" and so on, for every interval column present."""
     out: dict[str, Any] = {}
     for column in columns:
+        se_level = interval_levels.level_of_coverage_se_column(column)
+        if se_level is not None:
+            out[column] = st.column_config.NumberColumn(
+                f"± on the {interval_levels.level_label(se_level)} % share (standard error)",
+                format="percent",
+            )
+            continue
         level = interval_levels.level_of_column(str(column))
         if level is None:
             continue

@@ -94,6 +94,19 @@ def coverage_column(level: float) -> str:
     return f"coverage_{level_label(level)}"
 
 
+def coverage_se_column(level: float) -> str:
+    """``coverage_se_80``: the standard error of the ``level`` % coverage (a share)."""
+    return f"coverage_se_{level_label(level)}"
+
+
+def level_of_coverage_se_column(name: str) -> float | None:
+    """The level of a ``coverage_se_<L>`` column (``coverage_se_80`` -> 80), else None."""
+    text = str(name)
+    if not text.startswith("coverage_se_"):
+        return None
+    return level_of_column("coverage_" + text[len("coverage_se_") :])
+
+
 def interval_columns(levels: Iterable[float]) -> list[str]:
     """``lower_L``, ``upper_L`` for each level, in the given order."""
     return [col for lv in levels for col in (lower_column(lv), upper_column(lv))]

@@ -37,6 +37,7 @@ __all__ = [
     "pit_ensemble",
     "pit_histogram",
     "interval_coverage",
+    "coverage_standard_error",
 ]
 
 # Seasonal lag for daily demand: one week (common practice, no source).
@@ -298,3 +299,50 @@ def interval_coverage(actual, lower, upper) -> float:
         return float("nan")
     inside = (y >= lo) & (y <= hi)
     return float(inside[keep].mean())
+
+
+def coverage_standard_error(actual, lower, upper, groups) -> float:
+    """Standard error of :func:`interval_coverage` when the days come in correlated groups.
+
+    The days forecast from one origin share that origin's error state, so they fall inside or
+    outside an interval together; the groups (origins) are the independent units. The variance
+    is that of a ratio estimator over clusters, ``m / (m - 1) * sum_i (k_i - p n_i)^2 /
+    (sum_i n_i)^2`` for ``m`` groups with ``n_i`` scored days and ``k_i`` of them inside, ``p``
+    the pooled coverage (Cochran, 1977, *Sampling Techniques*, the ratio estimator; from
+    memory). NaN actuals are left out; NaN when fewer than two groups have scored days.
+
+    Parameters
+    ----------
+    actual, lower, upper : array-like
+        Actual values and interval bounds, one per day.
+    groups : array-like
+        The group (forecast origin) of each day.
+
+    Returns
+    -------
+    float
+        Standard error of the coverage, as a share (0.04 = 4 percentage points).
+    """
+    y = _as_float(actual, "actual")
+    lo = _as_float(lower, "lower")
+    hi = _as_float(upper, "upper")
+    labels = np.asarray(groups)
+    if not (y.shape == lo.shape == hi.shape == labels.shape):
+        raise InputError(
+            "actual, lower, upper and groups must have the same shape",
+            where="coverage_standard_error",
+            fix="Pass one bound pair and one group per actual value",
+        )
+    keep = np.isfinite(y)
+    if not keep.any():
+        return float("nan")
+    inside = ((y >= lo) & (y <= hi))[keep].astype(float)
+    _, index = np.unique(labels[keep], return_inverse=True)
+    n = np.bincount(index).astype(float)
+    k = np.bincount(index, weights=inside)
+    m = len(n)
+    if m < 2:
+        return float("nan")
+    p = k.sum() / n.sum()
+    variance = m / (m - 1) * float(np.sum((k - p * n) ** 2)) / float(n.sum()) ** 2
+    return float(np.sqrt(variance))

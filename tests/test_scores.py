@@ -9,6 +9,7 @@ from hypothesis import strategies as st
 
 from loadcore.errors import InputError
 from loadcore.scores import (
+    coverage_standard_error,
     crps_ensemble,
     crps_normal,
     interval_coverage,
@@ -182,3 +183,27 @@ def test_pit_ties_and_missing():
 
 def test_interval_coverage():
     assert interval_coverage([1, 5, 9, np.nan], [0, 0, 0, 0], [4, 5, 8, 1]) == pytest.approx(2 / 3)
+
+
+def test_coverage_standard_error_of_single_days_is_the_binomial_one():
+    """One day per group: the ratio-estimator variance is the binomial p(1 - p) / n times
+    n / (n - 1) (common practice, no source)."""
+    inside = np.array([1.0] * 30 + [0.0] * 10)
+    got = coverage_standard_error(inside, np.full(40, 0.5), np.full(40, 2.0), np.arange(40))
+    p, n = 0.75, 40
+    assert got == pytest.approx(np.sqrt(p * (1 - p) / n * n / (n - 1)))
+
+
+def test_coverage_standard_error_counts_groups_not_days():
+    """Days that move together (whole groups inside or outside) give the standard error of the
+    number of groups, not of the number of days; NaN actuals are left out."""
+    groups = np.repeat(np.arange(20), 5)
+    inside = np.repeat([1.0] * 15 + [0.0] * 5, 5)
+    actual = inside.copy()
+    actual[3] = np.nan
+    got = coverage_standard_error(actual, np.full(100, 0.5), np.full(100, 2.0), groups)
+    days = coverage_standard_error(inside, np.full(100, 0.5), np.full(100, 2.0), np.arange(100))
+    p, m = 0.75, 20
+    assert got == pytest.approx(np.sqrt(p * (1 - p) / m * m / (m - 1)), rel=0.02)
+    assert got > 2 * days
+    assert np.isnan(coverage_standard_error([1.0, 1.0], [0, 0], [2, 2], [7, 7]))

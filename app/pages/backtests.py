@@ -8,7 +8,7 @@ import streamlit as st
 
 from app import charts, display, state, tables
 from loadcore.errors import LoadcoreError
-from loadcore.evaluate import MAX_HORIZON_DAYS, MAX_ORIGINS, backtest
+from loadcore.evaluate import DEFAULT_ORIGINS, MAX_HORIZON_DAYS, MAX_ORIGINS, backtest
 from loadcore.export import round_for_planners, to_csv_bytes
 from loadcore.levels import coverage_column, level_label
 
@@ -27,7 +27,9 @@ with st.form("bt_form", border=True):
     horizon = a.number_input(
         f"Days ahead (1 to {MAX_HORIZON_DAYS})", 1, MAX_HORIZON_DAYS, 14, key="bt_horizon"
     )
-    origins = b.number_input(f"Origins (2 to {MAX_ORIGINS})", 2, MAX_ORIGINS, 20, key="bt_origins")
+    origins = b.number_input(
+        f"Origins (2 to {MAX_ORIGINS})", 2, MAX_ORIGINS, DEFAULT_ORIGINS, key="bt_origins"
+    )
     mode = c.radio(
         "Temperatures",
         ["ex_post", "ex_ante"],

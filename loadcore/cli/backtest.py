@@ -16,6 +16,7 @@ from loadcore.cli.common import (
     whole_number,
 )
 from loadcore.cli.fit import add_model_options, add_search_options, fit_settings
+from loadcore.evaluate import DEFAULT_ORIGINS
 
 
 def run(args: argparse.Namespace) -> int:
@@ -67,7 +68,12 @@ def add(sub: Any) -> None:
         "history", metavar="HISTORY", help="daily history CSV (date, demand, temperature)"
     )
     parser.add_argument("--horizon", type=whole_number, default=14, help="days ahead (14)")
-    parser.add_argument("--origins", type=whole_number, default=20, help="number of origins (20)")
+    parser.add_argument(
+        "--origins",
+        type=whole_number,
+        default=DEFAULT_ORIGINS,
+        help=f"number of origins ({DEFAULT_ORIGINS}: one a week over the last year)",
+    )
     parser.add_argument(
         "--mode",
         choices=("ex-post", "ex-ante"),
