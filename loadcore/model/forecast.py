@@ -123,14 +123,30 @@ def coefficient_paths(
     n_paths: int,
     seed: int | None,
     skip: int = 0,
+    normals: np.ndarray | None = None,
 ) -> np.ndarray:
     """Draws of ``g_h' (beta* - beta_hat)``, beta* ~ N(beta_hat, Cov(beta)), shape
     (n_paths, horizon): the forecast's spread from the estimated coefficients, one draw of
-    the coefficients per path."""
-    rng = np.random.default_rng(None if seed is None else [int(seed), 1])
+    the coefficients per path.
+
+    ``normals``, when given, shape (m, n_paths), are the standard normal draws used in place of
+    the generator's, through the Cholesky factor of the covariance (lower triangular, so the
+    k-th draw moves the k-th coefficient and those after it, the same way in every model with
+    similar designs): draws correlated across models (the zones of a system, whose coefficient
+    errors share their shocks) give coefficient errors that move together.
+    """
     G = effective_regressors(state, X_future, skip)
     C = np.asarray(coefficient_covariance, float)
-    vals, vecs = np.linalg.eigh((C + C.T) / 2)
+    C = (C + C.T) / 2
+    if normals is not None:
+        try:
+            L = np.linalg.cholesky(C)
+        except np.linalg.LinAlgError:  # singular: the eigen-factor, positive parts only
+            vals, vecs = np.linalg.eigh(C)
+            L = vecs * np.sqrt(np.clip(vals, 0, None))
+        return (G @ L @ np.asarray(normals, float)).T
+    rng = np.random.default_rng(None if seed is None else [int(seed), 1])
+    vals, vecs = np.linalg.eigh(C)
     L = vecs * np.sqrt(np.clip(vals, 0, None))
     return (G @ L @ rng.standard_normal((C.shape[0], n_paths))).T
 

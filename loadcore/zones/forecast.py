@@ -133,21 +133,40 @@ def system_paths(
                 where="zones folder",
                 fix="Refit the zone with this version of loadcore",
             )
-    linear = {z: models[z].linear_predictor(scenarios[z]) for z in zones}
+    linear, design, gaps = {}, {}, {}
+    for z in zones:
+        dates, temps, types = models[z]._scenario_inputs(scenarios[z])
+        design[z] = models[z].regressors(dates, temps, types)
+        linear[z] = design[z] @ models[z].beta
+        gaps[z] = models[z].window_gap(scenarios[z])
+    # Coefficient errors share the zones' shocks, so they are drawn with the same correlation,
+    # coefficient by coefficient (matched by column name).
+    names = list(dict.fromkeys(c for z in zones for c in models[z].columns))
+    rows = {z: [names.index(c) for c in models[z].columns] for z in zones}
     factor = correlation.factor()
-    chunk = max(1, min(n_paths, CHUNK_BYTES // (8 * len(zones) * horizon)))
+    per_path = 8 * len(zones) * (horizon + len(names))
+    chunk = max(1, min(n_paths, CHUNK_BYTES // per_path))
     rng = np.random.default_rng([int(seed), 7])
     total = np.zeros((n_paths, horizon))
     for c, start in enumerate(range(0, n_paths, chunk)):
         m = min(chunk, n_paths - start)
-        normals = rng.standard_normal((horizon, m, len(zones))) @ factor.T
+        shocks = rng.standard_normal((horizon, m, len(zones))) @ factor.T
+        coefs = rng.standard_normal((len(names), m, len(zones))) @ factor.T
         for j, zone in enumerate(zones):
             model = models[zone]
-            own = _seed(seed, j, c)
-            shocks = np.ascontiguousarray(normals[:, :, j])[:, None, :]
-            gap = model.window_gap(scenarios[zone])
-            noise = propagation.simulate_noise(model.end_state, horizon, m, own, gap, shocks=shocks)
-            noise += model.coefficient_draws(scenarios[zone], m, own)
+            own = np.ascontiguousarray(shocks[:, :, j])[:, None, :]
+            noise = propagation.simulate_noise(
+                model.end_state, horizon, m, _seed(seed, j, c), gaps[zone], shocks=own
+            )
+            noise += propagation.coefficient_paths(
+                model.end_state,
+                design[zone],
+                model.coefficient_covariance,
+                m,
+                None,
+                gaps[zone],
+                normals=coefs[rows[zone], :, j],
+            )
             total[start : start + m] += model.to_demand(linear[zone][None, :] + noise)
     return total
 
