@@ -4,7 +4,8 @@ A zones folder holds ``<zone>.json`` (a model file, as ``loadcore fit`` writes i
 zone that was fitted, ``zones.json`` (the list of zones: error model, AICc, convergence, fitted
 temperature range, data fingerprint, or the reason a zone failed) and ``zones-timing.json``
 (the seconds each zone took and where the run went). The time taken is kept apart so that
-``zones.json`` and the model files are the same bytes however and wherever the zones ran.
+``zones.json`` and the model files are the same bytes however and wherever the zones ran (the
+model files carry the run's one time stamp and no wall times).
 """
 
 from __future__ import annotations
@@ -163,7 +164,13 @@ def fit_one_zone(task: tuple[str, History, FitSettings, str]) -> ZoneFit:
     started = time.perf_counter()
     try:
         model = fit(history, settings)
-        model = dataclasses.replace(model, fitted_at=stamp)
+        # One stamp for the run and no wall times inside the model file (they are in
+        # zones-timing.json), so that the file is the same bytes wherever the zone ran.
+        comparison = getattr(model, "response_comparison", None)
+        changes: dict[str, Any] = {"fitted_at": stamp}
+        if comparison is not None and getattr(comparison, "seconds", 0.0):
+            changes["response_comparison"] = dataclasses.replace(comparison, seconds=0.0)
+        model = dataclasses.replace(model, **changes)
         text = model.to_json()
     except LoadcoreError as exc:
         return ZoneFit(zone, "", str(exc), time.perf_counter() - started, _failed(zone, str(exc)))
