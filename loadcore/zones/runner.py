@@ -133,13 +133,22 @@ def _worker_versions() -> dict[str, str]:
     }
 
 
+def _peak_memory_mb() -> float:
+    """This process's peak resident memory, MB (Linux reports kilobytes)."""
+    import resource
+
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
 @dataclass(frozen=True)
 class RunReport:
-    """How a run went: where it ran and how long the whole took (wall seconds)."""
+    """How a run went: where it ran, how long the whole took (wall seconds), and the highest
+    peak resident memory of a worker process (MB; this process's when run in-process)."""
 
     where: str
     wall_seconds: float
     workers: int
+    worker_peak_mb: float = 0.0
 
 
 def run_tasks(
@@ -173,7 +182,8 @@ def run_tasks(
             out.append(_limited(fn, item))
             if progress:
                 progress(i + 1, total, label(item))
-        return out, RunReport(choice.describe(), time.perf_counter() - started, 1)
+        wall = time.perf_counter() - started
+        return out, RunReport(choice.describe(), wall, 1, _peak_memory_mb())
     from distributed import Client, LocalCluster, as_completed
 
     cluster = None
@@ -218,12 +228,17 @@ def run_tasks(
                     done += 1
                     if progress:
                         progress(done, total, label(items[i]))
+            wall = time.perf_counter() - started
+            try:
+                peak = max(client.run(_peak_memory_mb).values(), default=0.0)
+            except Exception:  # memory is a figure for the record, never a reason to fail
+                peak = 0.0
         finally:
             client.close()
     finally:
         if cluster is not None:
             cluster.close()
-    return out, RunReport(choice.describe(), time.perf_counter() - started, workers)
+    return out, RunReport(choice.describe(), wall, workers, float(peak))
 
 
 def _check_versions(client: Any, address: str) -> None:
