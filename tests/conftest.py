@@ -42,3 +42,11 @@ def heat_wave_scenario(demo_model):
     peak = demo_model.temperature_range_c[1] + 3.0
     path = heat_wave(path, peak_c=peak, length_days=5, ramp_days=2, start_day=4)
     return make_scenario("heat wave", path, model_end=demo_model.history_end)
+
+
+@pytest.fixture
+def served_app(tmp_path):
+    """The app served on a free loopback port for a browser test (tests/browser_support.py)."""
+    from browser_support import serve_app
+
+    yield from serve_app(tmp_path)

@@ -3,141 +3,30 @@
 Builds a heat-wave scenario above the fitted temperature range, checks the out-of-range warning and
 the comparison chart, downloads the CSV and checks its columns. Screenshots go to test-artifacts/.
 The model is the demo model fitted once through the app (tests/test_app_support.py), uploaded on the
-Model page as a planner would upload a saved model.
+Model page as a planner would upload a saved model. Helpers: tests/browser_support.py.
 """
 
 from __future__ import annotations
 
 import csv
 import io
-import os
-import shutil
-import signal
-import socket
-import subprocess
-import sys
-import time
-import urllib.request
-from pathlib import Path
 
 import pytest
-from test_app_support import REPO, demo_model
+from browser_support import (
+    CHROMIUM_ARGS,
+    STEP_TIMEOUT_MS,
+    block_outside_requests,
+    chromium_path,
+    go,
+    shot,
+)
+from test_app_support import demo_model
 
 pytestmark = pytest.mark.browser
 
-ARTIFACTS = REPO / "test-artifacts"
-CHROMIUM_ARGS = [
-    "--no-sandbox",
-    "--headless",
-    "--disable-gpu",
-    "--disable-quic",
-    "--no-first-run",
-    "--disable-background-networking",
-    "--disable-component-update",
-    "--disable-sync",
-]
-SERVE_TIMEOUT_S = 120
-STEP_TIMEOUT_MS = 180_000
-
-
-def _chromium() -> str:
-    path = shutil.which("chromium")
-    if path is None:
-        if os.environ.get("CI", "").lower() == "true":
-            pytest.fail(
-                "chromium is not installed, so the browser test cannot run in CI. Install "
-                "Debian's chromium (`make chromium` or `apt-get install chromium`)."
-            )
-        pytest.skip("chromium is not installed (install it with `make chromium`)")
-    return path
-
-
-def _free_port() -> int:
-    with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as sock:
-        sock.bind(("127.0.0.1", 0))
-        return int(sock.getsockname()[1])
-
-
-def _wait_until_serving(url: str, server: subprocess.Popen, log_path: Path) -> None:
-    deadline = time.monotonic() + SERVE_TIMEOUT_S
-    while time.monotonic() < deadline:
-        if server.poll() is not None:
-            pytest.fail(f"`loadcore app` exited early:\n{log_path.read_text(errors='replace')}")
-        try:
-            with urllib.request.urlopen(f"{url}/_stcore/health", timeout=2) as response:
-                if response.read().strip() == b"ok":
-                    return
-        except OSError:
-            time.sleep(0.5)
-    pytest.fail(f"`loadcore app` did not serve within {SERVE_TIMEOUT_S} s")
-
-
-@pytest.fixture
-def served_app(tmp_path):
-    """`loadcore app --port <free port>` in its own process group; stopped at the end."""
-    port = _free_port()
-    log_path = tmp_path / "server.log"
-    env = {**os.environ, "LOADCORE_LIBRARY": str(tmp_path / "library.sqlite")}
-    # The program of the venv the tests run in, not whatever `loadcore` is on PATH.
-    command = [sys.executable, "-m", "loadcore", "app", "--port", str(port)]
-    with log_path.open("wb") as log:
-        server = subprocess.Popen(
-            command,
-            cwd=REPO,
-            env=env,
-            stdout=log,
-            stderr=subprocess.STDOUT,
-            start_new_session=True,
-        )
-    url = f"http://127.0.0.1:{port}"
-    try:
-        _wait_until_serving(url, server, log_path)
-        yield url
-    finally:
-        if server.poll() is None:
-            os.killpg(server.pid, signal.SIGTERM)
-            try:
-                server.wait(timeout=20)
-            except subprocess.TimeoutExpired:
-                os.killpg(server.pid, signal.SIGKILL)
-                server.wait(timeout=10)
-
-
-def _shot(page, name: str) -> None:
-    """A screenshot of the top of the page (Streamlit scrolls inside its own container)."""
-    ARTIFACTS.mkdir(exist_ok=True)
-    page.evaluate(
-        "() => document.querySelectorAll('[data-testid=\"stMain\"], section.main')"
-        ".forEach(el => el.scrollTo(0, 0))"
-    )
-    page.wait_for_timeout(800)  # let the charts finish drawing
-    page.screenshot(path=str(ARTIFACTS / f"{name}.png"))
-
-
-def _block_outside_requests(page) -> list[str]:
-    """Abort every request that leaves this machine and keep its address (for an assertion)."""
-    outside: list[str] = []
-
-    def handle(route) -> None:
-        url = route.request.url
-        host = url.split("//", 1)[-1].split("/", 1)[0].split(":", 1)[0]
-        if url.startswith(("data:", "blob:")) or host in ("127.0.0.1", "localhost"):
-            route.continue_()
-        else:
-            outside.append(url)
-            route.abort()
-
-    page.route("**/*", handle)
-    return outside
-
-
-def _go(page, link: str, title: str) -> None:
-    page.get_by_role("link", name=link, exact=True).first.click()
-    page.get_by_role("heading", name=title, exact=True).first.wait_for(timeout=STEP_TIMEOUT_MS)
-
 
 def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
-    chromium = _chromium()
+    chromium = chromium_path()
     sync_api = pytest.importorskip("playwright.sync_api")
     model = demo_model()
     model_file = tmp_path / "demo_model.json"
@@ -149,22 +38,22 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
         try:
             page = browser.new_page(viewport={"width": 1440, "height": 1000}, accept_downloads=True)
             page.set_default_timeout(STEP_TIMEOUT_MS)
-            outside = _block_outside_requests(page)
+            outside = block_outside_requests(page)
             page.goto(served_app)
             page.get_by_role("heading", name="History", exact=True).wait_for()
             page.locator(".js-plotly-plot").first.wait_for()
-            _shot(page, "01_history")
+            shot(page, "01_history")
 
             # Model page: upload the saved demo model.
-            _go(page, "Model", "Model")
+            go(page, "Model", "Model")
             page.get_by_text("Upload a saved model (JSON)").click()
             page.locator("input[type=file]").set_input_files(str(model_file))
             page.get_by_role("button", name="Use this model").click()
             page.get_by_role("heading", name="The fitted model").wait_for()
-            _shot(page, "02_model")
+            shot(page, "02_model")
 
             # Build a heat wave above the fitted range.
-            _go(page, "Build a scenario", "Build a scenario")
+            go(page, "Build a scenario", "Build a scenario")
             peak = page.get_by_label("Peak daily high, °C")
             peak.fill(f"{peak_c}")
             peak.press("Enter")
@@ -172,17 +61,17 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             warning.wait_for()
             page.get_by_role("button", name="Add to the set").click()
             page.get_by_text("is in the set").first.wait_for()
-            _shot(page, "03_scenario")
+            shot(page, "03_scenario")
 
             # Compare: the warning names the dates, the chart is drawn, the CSV downloads.
-            _go(page, "Compare", "Compare")
+            go(page, "Compare", "Compare")
             page.locator(".js-plotly-plot").first.wait_for()
             alert = page.locator("[data-testid='stAlert']", has_text="fitted temperature range")
             text = alert.first.inner_text()
             forecast = model.forecast(_scenario_like_the_app(model, peak_c))
             for day in forecast.frame.loc[forecast.frame["out_of_range"], "date"]:
                 assert f"{day:%Y-%m-%d}" in text
-            _shot(page, "04_compare")
+            shot(page, "04_compare")
             with page.expect_download() as info:
                 page.get_by_role("button", name="Download the forecasts shown (CSV)").click()
             saved = tmp_path / "download.csv"
@@ -217,7 +106,7 @@ def test_heat_wave_scenario_in_a_real_browser(served_app, tmp_path):
             page.get_by_role("heading", name="Day by day").wait_for(state="detached")
             page.locator(".js-plotly-plot").first.wait_for()
             assert page.locator("[data-testid='stSidebar']").is_hidden()
-            _shot(page, "05_meeting_view")
+            shot(page, "05_meeting_view")
             # Leaving it from the page turns the sidebar's toggle off too (app/state.py).
             page.get_by_role("button", name="Leave the meeting view").click()
             page.get_by_role("heading", name="Day by day").wait_for()
