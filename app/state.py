@@ -1,6 +1,6 @@
 """The session: its keys, and every transition between its states.
 
-Longer than 400 lines on purpose: the project's rule is that one module owns every session key
+Not split (over 800 lines), on purpose: the project's rule is that one module owns every session key
 and every transition, so that a page can never change the session behind the others' backs.
 
 This module owns ``st.session_state``. Pages read the session through the getters below and change

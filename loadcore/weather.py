@@ -1,5 +1,9 @@
 """Weather ensembles built from the temperature history.
 
+Not split (about 700 lines): the trace building, the pooling of paths and the ensemble's table
+share one set of window and trace rules; splitting them would scatter those rules. A split into
+a weather/ package (traces, pooling, tables) is the next step if it grows.
+
 A weather ensemble answers "what could demand be over the next weeks if the weather behaves like
 it did in past years?". Each past year with the window available gives the temperatures of the
 same calendar window, and again shifted by -k..+k days, so a five-year history with k = 3 gives

@@ -7,7 +7,7 @@ cached values, and :meth:`FittedModel.update` returns a new model through
 (:mod:`loadcore.model.forecast`); statsmodels is only called to re-run the filter
 (:meth:`~FittedModel.update`, :meth:`~FittedModel.statsmodels_results`).
 
-This module is a little over 400 lines because it is the one public face of a fitted model:
+Not split (about 700 lines): it is the one public face of a fitted model:
 every method is a short delegation to the module that owns the work (wording, diagnostics,
 forecast, state space, model file).
 """
