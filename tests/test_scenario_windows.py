@@ -275,3 +275,16 @@ def test_a_far_window_matches_the_reference_filter_through_the_gap():
     sd = (np.log(fc["upper_80"].to_numpy()) - np.log(fc["median"].to_numpy())) / stats.norm.ppf(0.9)
     np.testing.assert_allclose(sd, np.sqrt(ref.var_pred_mean[gap:]), rtol=1e-4)
     np.testing.assert_allclose(np.log(fc["median"]), ref.predicted_mean[gap:], rtol=0, atol=5e-5)
+
+
+def test_a_saved_far_forecast_keeps_its_growth_note(demo_model, tmp_path):
+    """The library gives the growth note again when a saved far forecast is read back (its
+    other warnings are recomputed in the chosen unit)."""
+    start = demo_model.history_end + pd.DateOffset(months=22)
+    scenario = make_scenario("far", constant_path(start, 14, 20.0))
+    forecast = demo_model.forecast(scenario)
+    library = ScenarioLibrary(tmp_path / "lib.sqlite")
+    library.save(entry_from_forecast(forecast, scenario=scenario, model=demo_model, name="far"))
+    stored = library.get("far").to_forecast()
+    assert any("extrapolated 22 months" in w for w in stored.warnings("F"))
+    assert stored.warnings("F") == forecast.warnings("F")

@@ -69,13 +69,18 @@ class StoredForecast:
     warning_texts: tuple[str, ...] = ()
 
     temperature_range_c: tuple[float, float] | None = None
+    growth_months: float = 0.0
 
     def warnings(self, temp_unit: str = "C") -> list[str]:
         """The forecast's warnings in ``temp_unit``; the texts saved with it when the saved
-        forecast does not record the fitted temperature range (older libraries)."""
+        forecast does not record the fitted temperature range (older libraries). A far
+        window's growth note is given again from the saved ``growth_months``."""
         if self.temperature_range_c is None or "temperature_c" not in self.frame:
             return list(self.warning_texts)
-        return texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
+        out = texts.forecast_warnings(self.frame, self.temperature_range_c, temp_unit)
+        if self.growth_months > texts.GROWTH_NOTE_MONTHS:
+            out.append(texts.growth_note(self.growth_months))
+        return out
 
 
 @dataclass(frozen=True)
@@ -150,6 +155,7 @@ class SavedScenario:
             note=self.note,
             warning_texts=tuple(str(w) for w in self.context.get("warnings", ()) or ()),
             temperature_range_c=_range_or_none(self.context.get("temperature_range_c")),
+            growth_months=_months_or_zero(self.context.get("growth_months")),
         )
 
     def scenario(self):
@@ -167,6 +173,14 @@ class SavedScenario:
         frame["date"] = pd.to_datetime(frame["date"])
         frame["demand"] = pd.to_numeric(frame["demand"], errors="coerce").astype(float)
         return frame.set_index("date")
+
+
+def _months_or_zero(value: Any) -> float:
+    try:
+        months = float(value)
+    except (TypeError, ValueError):
+        return 0.0
+    return months if math.isfinite(months) and 0.0 <= months <= 1000.0 else 0.0
 
 
 def _range_or_none(value: Any) -> tuple[float, float] | None:
@@ -259,6 +273,7 @@ def entry_from_forecast(
         "demand_kind": str(getattr(hist_settings, "subdaily_demand", "peak")),
         "warnings": warnings,
         "temperature_range_c": list(getattr(forecast, "temperature_range_c", ()) or ()),
+        "growth_months": float(getattr(forecast, "growth_months", 0.0) or 0.0),
     }
     return ScenarioEntry(
         name=name if name is not None else str(getattr(scenario, "name", "")),
