@@ -5,12 +5,12 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
-from loadcore import levels, plainjson, texts
+from loadcore import plainjson, texts
 from loadcore.cli.common import (
     ProgressBar,
+    add_levels_option,
     history_options,
     history_settings,
-    levels_arg,
     require_file,
     say,
     whole_number,
@@ -80,13 +80,7 @@ def add(sub: Any) -> None:
         default="ex-post",
         help="actual temperatures (ex-post) or weather ensembles (ex-ante); default ex-post",
     )
-    parser.add_argument(
-        "--levels",
-        type=levels_arg,
-        default=levels.DEFAULT_LEVELS,
-        metavar="L1,L2",
-        help="prediction-interval levels in percent, 1 to 99.9 (80,95)",
-    )
+    add_levels_option(parser)
     add_search_options(parser)
     add_model_options(parser)
     parser.add_argument("--seed", type=int, default=0, help="random seed (0)")

@@ -134,6 +134,28 @@ def port_arg(text: str) -> int:
 # ------------------------------------------------------------------------------ history options
 
 
+def add_levels_option(parser: argparse.ArgumentParser) -> None:
+    """``--levels``: the interval levels of a forecast or backtest, through the one parser."""
+    parser.add_argument(
+        "--levels",
+        type=levels_arg,
+        default=levels.DEFAULT_LEVELS,
+        metavar="L1,L2",
+        help="prediction-interval levels in percent, 1 to 99.9 (80,95)",
+    )
+
+
+def add_scenario_unit_option(parser: argparse.ArgumentParser) -> None:
+    """``--temp-unit`` of a command that reads a scenario and writes a forecast."""
+    parser.add_argument(
+        "--temp-unit",
+        type=unit_arg,
+        default="C",
+        metavar="C|F",
+        help="unit of the scenario temperatures and of every temperature written or printed (C)",
+    )
+
+
 def history_options() -> argparse.ArgumentParser:
     """The options that say how to read a history file (a parent parser)."""
     parent = argparse.ArgumentParser(add_help=False)

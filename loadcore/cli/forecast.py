@@ -7,12 +7,12 @@ from typing import Any
 
 from loadcore import levels, texts, units
 from loadcore.cli.common import (
-    levels_arg,
+    add_levels_option,
+    add_scenario_unit_option,
     one_line,
     require_file,
     require_output,
     say,
-    unit_arg,
     write_output,
 )
 
@@ -108,20 +108,8 @@ def add(sub: Any) -> None:
     parser.add_argument(
         "--out", required=True, metavar="FORECAST.csv", help="where to write the CSV"
     )
-    parser.add_argument(
-        "--levels",
-        type=levels_arg,
-        default=levels.DEFAULT_LEVELS,
-        metavar="L1,L2",
-        help="prediction-interval levels in percent, 1 to 99.9 (80,95)",
-    )
-    parser.add_argument(
-        "--temp-unit",
-        type=unit_arg,
-        default="C",
-        metavar="C|F",
-        help="unit of the scenario temperatures and of every temperature written or printed (C)",
-    )
+    add_levels_option(parser)
+    add_scenario_unit_option(parser)
     parser.add_argument("--date-col", default="date", metavar="NAME", help="date column (date)")
     parser.add_argument(
         "--temp-col", default="temperature", metavar="NAME", help="temperature column (temperature)"

@@ -15,14 +15,14 @@ from typing import Any
 from loadcore import levels, texts
 from loadcore.cli.common import (
     ProgressBar,
+    add_levels_option,
+    add_scenario_unit_option,
     history_options,
     history_settings,
-    levels_arg,
     one_line,
     require_file,
     require_output,
     say,
-    unit_arg,
     whole_number,
     write_output,
 )
@@ -262,20 +262,8 @@ def add_forecast(actions: Any) -> None:
         help="the scenario's one temperature column (--temp-col) is a change from each zone's "
         "own seasonal normal, in degrees of --temp-unit (e.g. +8 for a heat wave)",
     )
-    p.add_argument(
-        "--levels",
-        type=levels_arg,
-        default=levels.DEFAULT_LEVELS,
-        metavar="L1,L2",
-        help="prediction-interval levels in percent, 1 to 99.9 (80,95)",
-    )
-    p.add_argument(
-        "--temp-unit",
-        type=unit_arg,
-        default="C",
-        metavar="C|F",
-        help="unit of the scenario temperatures and of every temperature written or printed (C)",
-    )
+    add_levels_option(p)
+    add_scenario_unit_option(p)
     p.add_argument("--date-col", default="date", metavar="NAME", help="date column (date)")
     p.add_argument(
         "--temp-col",
