@@ -44,6 +44,7 @@ PAGES = {
         st.Page("pages/model_fit.py", title="Model", icon=":material/tune:"),
         st.Page("pages/scenario.py", title="Build a scenario", icon=":material/thermostat:"),
         st.Page("pages/compare.py", title="Compare", icon=":material/stacked_line_chart:"),
+        st.Page("pages/zones.py", title="Zones", icon=":material/grid_view:"),
     ],
     "Explore": [
         st.Page("pages/ensembles.py", title="Weather ensembles", icon=":material/cloud:"),

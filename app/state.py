@@ -66,6 +66,9 @@ Session keys (the only ones shared between pages):
     day and length), shared by the scenario builder and the weather ensembles and kept across
     pages (:func:`prepare_window`, :func:`window_typed`, :func:`window_chosen`). A start that
     the model in use does not allow (after a new history) is brought back to the earliest one.
+``zones``
+    ``{"models": loadcore.zones.folder.ZoneModels, "source": text}`` or absent: the zones opened
+    or fitted on the Zones page (:func:`use_zones`); a bad folder or file never replaces them.
 """
 
 from __future__ import annotations
@@ -110,6 +113,7 @@ TYPED = "typed_temperatures"
 DAY_EDITS = "day_edits"
 FIT_FORM_TERMS = "fit_form_terms"
 WINDOW = "scenario_window"
+ZONES = "zones"
 
 # Keys of the sidebar widgets bound to ``temp_unit`` and ``meeting_view`` (app/main.py).
 UNIT_WIDGET = "unit_choice"
@@ -832,3 +836,25 @@ def window_chosen(start: Any, days: int) -> None:
     import pandas as pd
 
     st.session_state[WINDOW] = {"start": pd.Timestamp(start).normalize(), "days": int(days)}
+
+
+# --------------------------------------------------------------------------------------------
+# The zones of a system (Zones page)
+# --------------------------------------------------------------------------------------------
+
+
+def use_zones(zone_models, source: str) -> None:
+    """Use ``zone_models`` (a loaded zones folder) from now on; called only after it loaded."""
+    st.session_state[ZONES] = {"models": zone_models, "source": source}
+
+
+def zones():
+    """The zones in use (``ZoneModels``) or None."""
+    kept = st.session_state.get(ZONES)
+    return kept["models"] if kept else None
+
+
+def zones_source() -> str:
+    """Where the zones in use came from."""
+    kept = st.session_state.get(ZONES)
+    return kept["source"] if kept else ""
