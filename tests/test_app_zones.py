@@ -4,6 +4,7 @@ keeps what was open."""
 
 from __future__ import annotations
 
+import html
 import io
 
 import numpy as np
@@ -61,6 +62,11 @@ def test_open_folder_apply_change_and_download_the_zone_breakdown(zones_folder, 
         assert_no_exception(at)
         assert any(texts_mod.ZONE_TOTAL_CAUTION in t for t in texts(at, "info"))
         table = pd.read_csv(io.BytesIO(download_bytes(at, "zn_csv")))
+        brief = download_bytes(at, "zn_brief").decode("utf-8")
+    assert "<h2>Zone breakdown</h2>" in brief
+    assert texts_mod.ZONE_TOTAL_CAUTION in html.unescape(brief)
+    for zone in system.zones:
+        assert f"<td>{zone}</td>" in brief
     assert list(table["zone"].unique()) == [*system.zones, "system"]
     zones_rows = table[table.zone != "system"]
     total = table[table.zone == "system"].set_index("date")

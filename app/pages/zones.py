@@ -14,6 +14,7 @@ from loadcore import levels as interval_levels
 from loadcore import texts
 from loadcore.errors import LoadcoreError
 from loadcore.export import to_csv_bytes
+from loadcore.export.zone_brief import zone_brief_html
 from loadcore.history import HistorySettings
 from loadcore.zones import ZoneLayout, fit_zones, parse_cluster, read_zone_histories
 from loadcore.zones.folder import load_zone_folder, zone_scenarios
@@ -193,6 +194,13 @@ st.download_button(
     file_name="zones_forecast.csv",
     mime="text/csv",
     key="zn_csv",
+)
+st.download_button(
+    "Download the zones brief (HTML, opens offline)",
+    zone_brief_html(result, title="Zones outlook", temp_unit=unit),
+    file_name="zones_brief.html",
+    mime="text/html",
+    key="zn_brief",
 )
 st.caption(texts.INTERVAL_CAUTION)
 display.footer()

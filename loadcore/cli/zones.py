@@ -197,6 +197,11 @@ def run_forecast(args: argparse.Namespace) -> int:
     )
     table = result.table(unit)
     write_output(args.out, to_csv_bytes(table), what="zones forecast file")
+    if args.brief:
+        from loadcore.export.zone_brief import zone_brief_html
+
+        html_text = zone_brief_html(result, title="Zones outlook", temp_unit=unit)
+        write_output(args.brief, html_text.encode("utf-8"), what="zones brief")
     system = result.system
     first, last = system["date"].iloc[0], system["date"].iloc[-1]
     cmp = result.band_comparison()
@@ -256,6 +261,11 @@ def add_forecast(actions: Any) -> None:
         "--as-anomaly one column of changes from every zone's seasonal normal",
     )
     p.add_argument("--out", required=True, metavar="FORECAST.csv", help="the long CSV to write")
+    p.add_argument(
+        "--brief",
+        metavar="BRIEF.html",
+        help="also write an offline HTML brief: the system total and the zone breakdown",
+    )
     p.add_argument(
         "--as-anomaly",
         action="store_true",
