@@ -135,17 +135,27 @@ system = result.system
 level = result.levels[0]
 lo, hi = interval_levels.lower_column(level), interval_levels.upper_column(level)
 label = interval_levels.level_label(level)
+
+
+def _add_band_and_mean(fig, frame: pd.DataFrame, *, legend: bool, **cell) -> None:
+    """The band between ``lo`` and ``hi`` and the mean line of ``frame`` (one subplot cell)."""
+    x = frame["date"]
+    fig.add_scatter(x=x, y=frame[hi], mode="lines", line_width=0, showlegend=False, **cell)
+    fig.add_scatter(
+        x=x,
+        y=frame[lo],
+        mode="lines",
+        line_width=0,
+        fill="tonexty",
+        name=f"{label} % band",
+        showlegend=legend,
+        **cell,
+    )
+    fig.add_scatter(x=x, y=frame["mean"], mode="lines", name="mean", showlegend=legend, **cell)
+
+
 total = make_subplots(rows=1, cols=1)
-total.add_scatter(x=system["date"], y=system[hi], mode="lines", line_width=0, showlegend=False)
-total.add_scatter(
-    x=system["date"],
-    y=system[lo],
-    mode="lines",
-    line_width=0,
-    fill="tonexty",
-    name=f"{label} % band",
-)
-total.add_scatter(x=system["date"], y=system["mean"], mode="lines", name="mean")
+_add_band_and_mean(total, system, legend=True)
 total.update_layout(title="System total", yaxis_title=result.demand_unit, height=360)
 st.plotly_chart(total, key="zn_total_chart")
 if system["out_of_range"].any():
@@ -169,22 +179,8 @@ cols = min(3, n)
 rows = -(-n // cols)
 grid = make_subplots(rows=rows, cols=cols, subplot_titles=list(result.zones))
 for i, zone in enumerate(result.zones):
-    f = result.zone_forecasts[zone].frame
     r, c = i // cols + 1, i % cols + 1
-    grid.add_scatter(
-        x=f["date"], y=f[hi], mode="lines", line_width=0, showlegend=False, row=r, col=c
-    )
-    grid.add_scatter(
-        x=f["date"],
-        y=f[lo],
-        mode="lines",
-        line_width=0,
-        fill="tonexty",
-        showlegend=False,
-        row=r,
-        col=c,
-    )
-    grid.add_scatter(x=f["date"], y=f["mean"], mode="lines", showlegend=False, row=r, col=c)
+    _add_band_and_mean(grid, result.zone_forecasts[zone].frame, legend=False, row=r, col=c)
 grid.update_layout(title="Every zone", height=240 * rows)
 st.plotly_chart(grid, key="zn_zone_charts")
 

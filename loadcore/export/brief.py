@@ -234,25 +234,9 @@ def meeting_brief_html(
     horizon_text = (
         f"Scenario days: {forecast_dates.min():%Y-%m-%d} to {forecast_dates.max():%Y-%m-%d}."
     )
-    generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
     cautions = [texts.PLANNING_CAUTION, texts.INTERVAL_CAUTION, texts.RANGE_CAUTION, *notes]
 
-    return f"""<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<meta name="generator" content="loadcore {html.escape(__version__)}">
-<title>{html.escape(str(title))}</title>
-<style>{_STYLE}</style>
-</head>
-<body>
-<main>
-<h1>{html.escape(str(title))}</h1>
-<p class="period">{html.escape(str(period_text))}</p>
-<p class="caution" id="planning-caution">{html.escape(texts.PLANNING_CAUTION)}</p>
-
-<h2>Demand outlook</h2>
+    body = f"""<h2>Demand outlook</h2>
 <p class="note">Lines are scenario means; shaded bands are prediction intervals; triangles mark
 days whose temperature lies outside the fitted range.</p>
 {chart}
@@ -272,7 +256,30 @@ days whose temperature lies outside the fitted range.</p>
 
 <h2>Data period</h2>
 <p>{html.escape(str(period_text))}</p>
-<p>{html.escape(history_text)} {html.escape(horizon_text)}</p>
+<p>{html.escape(history_text)} {html.escape(horizon_text)}</p>"""
+    return html_document(title=title, period_line=str(period_text), body=body, cautions=cautions)
+
+
+def html_document(*, title: Any, period_line: str, body: str, cautions: Sequence[str]) -> str:
+    """A whole brief page: head with the one style, title, period line and the planning caution,
+    then ``body`` (HTML, already escaped), then the cautions and the footer with the time made."""
+    generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
+    return f"""<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<meta name="generator" content="loadcore {html.escape(__version__)}">
+<title>{html.escape(str(title))}</title>
+<style>{_STYLE}</style>
+</head>
+<body>
+<main>
+<h1>{html.escape(str(title))}</h1>
+<p class="period">{html.escape(period_line)}</p>
+<p class="caution" id="planning-caution">{html.escape(texts.PLANNING_CAUTION)}</p>
+
+{body}
 
 <h2>Read this before use</h2>
 <ul class="plain" id="cautions">{"".join(f"<li>{html.escape(c)}</li>" for c in cautions)}</ul>

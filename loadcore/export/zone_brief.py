@@ -10,7 +10,6 @@ cautions of :mod:`loadcore.texts`. Style, table helper and palette are the meeti
 from __future__ import annotations
 
 import html
-from datetime import UTC, datetime
 from typing import Any
 
 import numpy as np
@@ -20,9 +19,8 @@ from loadcore import levels as interval_levels
 from loadcore import texts, units
 from loadcore.errors import InputError
 from loadcore.export import palette
-from loadcore.export.brief import _STYLE, _fmt_number, _table
+from loadcore.export.brief import _fmt_number, _table, html_document
 from loadcore.export.figures import SCREEN_HEIGHT, _add_scenario, figure_html, style_figure
-from loadcore.version import __version__
 
 
 def zone_breakdown(system_forecast: Any) -> pd.DataFrame:
@@ -182,23 +180,7 @@ def zone_brief_html(
     period = f"{period_text} " if period_text else ""
     cautions = [texts.PLANNING_CAUTION, texts.ZONE_TOTAL_CAUTION, texts.INTERVAL_CAUTION]
     cautions += [texts.RANGE_CAUTION]
-    generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    return f"""<!DOCTYPE html>
-<html lang="en">
-<head>
-<meta charset="utf-8">
-<meta name="viewport" content="width=device-width, initial-scale=1">
-<meta name="generator" content="loadcore {html.escape(__version__)}">
-<title>{html.escape(str(title))}</title>
-<style>{_STYLE}</style>
-</head>
-<body>
-<main>
-<h1>{html.escape(str(title))}</h1>
-<p class="period">{html.escape(period + horizon)}</p>
-<p class="caution" id="planning-caution">{html.escape(texts.PLANNING_CAUTION)}</p>
-
-<h2>System total</h2>
+    body = f"""<h2>System total</h2>
 <p class="caution" id="zone-total-caution">{html.escape(texts.ZONE_TOTAL_CAUTION)}</p>
 <p class="note">The line is the system's mean; shaded bands are prediction intervals from joint
 sample paths; triangles mark days on which some zone lies outside its fitted range.</p>
@@ -210,13 +192,5 @@ sample paths; triangles mark days on which some zone lies outside its fitted ran
 
 <h2>System band and the sum of the zones' bands</h2>
 {band_table}
-<p class="note">{html.escape(band_note)}</p>
-
-<h2>Read this before use</h2>
-<ul class="plain" id="cautions">{"".join(f"<li>{html.escape(c)}</li>" for c in cautions)}</ul>
-
-<footer>Prepared with loadcore {html.escape(__version__)} on {generated}.</footer>
-</main>
-</body>
-</html>
-"""
+<p class="note">{html.escape(band_note)}</p>"""
+    return html_document(title=title, period_line=period + horizon, body=body, cautions=cautions)
